@@ -1,0 +1,280 @@
+//! The `Estimator` trait at the centre of the crate, and what every estimator returns.
+//!
+//! Every method — convex (`sdp`), subspace, greedy — takes validated [`Measurements`] and returns an
+//! [`Estimate`]: the recovered spikes, a [`Status`] that says how the computation went, and
+//! [`Diagnostics`] that say how far the answer can be trusted (separation against the proven
+//! thresholds, residual, certificate).
+
+use crate::dual::{Certificate, DualPolynomial};
+use crate::error::Result;
+use crate::model::{Measurements, Spikes};
+use serde::{Serialize, Serializer};
+use std::fmt;
+
+/// Proven separation threshold for exact recovery by TV minimisation, in Rayleigh units:
+/// `Δ ≥ 1.26/fc` (Fernandez-Granda 2016, Information and Inference 5(3), Thm. 2.2).
+pub const PROVEN_SEPARATION_FC: f64 = 1.26;
+
+/// The original exact-recovery threshold `Δ ≥ 2/fc` (Candès & Fernandez-Granda 2014, CPAM 67(6), Thm. 1.2).
+pub const CLASSICAL_SEPARATION_FC: f64 = 2.0;
+
+/// A spike-recovery method. Object safe: `Box<dyn Estimator>` works.
+///
+/// # Examples
+/// ```
+/// use finespike::{Estimator, TvExact};
+/// let methods: Vec<Box<dyn Estimator>> = vec![Box::new(TvExact::default())];
+/// assert_eq!(methods[0].name(), "sdp");
+/// ```
+pub trait Estimator: Send + Sync + fmt::Debug {
+    /// The method's name, as used on the command line (e.g. `"sdp"`).
+    fn name(&self) -> &'static str;
+
+    /// Recover spikes from `data`.
+    ///
+    /// # Errors
+    /// Only for data the method cannot handle at all (e.g. gaps in `K` for a subspace method);
+    /// solver trouble is reported in [`Estimate::status`].
+    fn estimate(&self, data: &Measurements) -> Result<Estimate>;
+}
+
+/// How the computation behind an estimate went.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+#[non_exhaustive]
+pub enum Status {
+    /// Converged to the requested accuracy.
+    ///
+    /// ```
+    /// assert_eq!(finespike::Status::Solved.to_string(), "solved");
+    /// ```
+    Solved,
+    /// Converged only to the solver's relaxed tolerances; positions may be less accurate.
+    ///
+    /// ```
+    /// assert!(finespike::Status::ReducedAccuracy.is_usable());
+    /// ```
+    ReducedAccuracy,
+    /// Stopped at the iteration limit before converging.
+    ///
+    /// ```
+    /// assert!(!finespike::Status::IterationLimit.is_usable());
+    /// ```
+    IterationLimit,
+    /// Stopped at the time limit before converging.
+    ///
+    /// ```
+    /// assert_eq!(finespike::Status::TimeLimit.to_string(), "time limit");
+    /// ```
+    TimeLimit,
+    /// The solver ran into numerical trouble (failed factorisation, stalled steps).
+    ///
+    /// ```
+    /// assert!(!finespike::Status::NumericalFailure.is_usable());
+    /// ```
+    NumericalFailure,
+    /// The solver declared the problem infeasible (not expected for well-posed data; a sign of
+    /// numerical trouble or of inconsistent settings).
+    ///
+    /// ```
+    /// assert_eq!(finespike::Status::Infeasible.to_string(), "infeasible");
+    /// ```
+    Infeasible,
+}
+
+impl Status {
+    /// True for [`Status::Solved`] and [`Status::ReducedAccuracy`].
+    pub fn is_usable(self) -> bool {
+        matches!(self, Status::Solved | Status::ReducedAccuracy)
+    }
+}
+
+impl fmt::Display for Status {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(match self {
+            Status::Solved => "solved",
+            Status::ReducedAccuracy => "reduced accuracy",
+            Status::IterationLimit => "iteration limit",
+            Status::TimeLimit => "time limit",
+            Status::NumericalFailure => "numerical failure",
+            Status::Infeasible => "infeasible",
+        })
+    }
+}
+
+/// A plain-language caution attached to an estimate.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub enum Warning {
+    /// Recovered spikes closer than the proven threshold 1.26/fc (but at least 1/fc).
+    BelowProvenSeparation {
+        /// Minimum separation of the recovered support, in Rayleigh units.
+        separation_fc: f64,
+    },
+    /// Recovered spikes closer than the Rayleigh limit 1/fc.
+    BelowRayleigh {
+        /// Minimum separation of the recovered support, in Rayleigh units.
+        separation_fc: f64,
+    },
+    /// The dual polynomial exceeds 1 somewhere: the optimality certificate fails.
+    CertificateViolated {
+        /// `max |q|` over the torus.
+        max_modulus: f64,
+    },
+    /// A local maximum of `|q|` away from the support comes close to 1: the support is ambiguous.
+    WeakCertificate {
+        /// The largest off-support maximum of `|q|`.
+        max_off_support: f64,
+    },
+    /// The solver did not converge; positions and amplitudes are the last iterate's.
+    NotConverged {
+        /// The solver's status.
+        status: Status,
+    },
+    /// No spike was found.
+    NoSpikes,
+}
+
+impl fmt::Display for Warning {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Warning::BelowProvenSeparation { separation_fc } => write!(
+                f,
+                "recovered spikes are {separation_fc:.3}/fc apart, below the proven exact-recovery \
+                 threshold 1.26/fc: positions and amplitudes of the closest lines may be wrong"
+            ),
+            Warning::BelowRayleigh { separation_fc } => write!(
+                f,
+                "UNDER-RESOLVED: recovered spikes are {separation_fc:.3}/fc apart, below the Rayleigh \
+                 limit 1/fc; no guarantee covers this case and close lines may be merged, split or \
+                 misplaced"
+            ),
+            Warning::CertificateViolated { max_modulus } => write!(
+                f,
+                "the dual certificate fails (max |q| = {max_modulus:.6} > 1): the solution is not \
+                 certified optimal"
+            ),
+            Warning::WeakCertificate { max_off_support } => write!(
+                f,
+                "|q| reaches {max_off_support:.6} away from the support: the support is barely \
+                 identified and an extra or missing spike is possible"
+            ),
+            Warning::NotConverged { status } => write!(
+                f,
+                "the solver stopped with status '{status}': the result is the last iterate, not a \
+                 converged solution"
+            ),
+            Warning::NoSpikes => f.write_str("no spike was found"),
+        }
+    }
+}
+
+impl Serialize for Warning {
+    fn serialize<S: Serializer>(&self, s: S) -> std::result::Result<S::Ok, S::Error> {
+        s.serialize_str(&self.to_string())
+    }
+}
+
+/// What an estimator reports besides the spikes: how it went and how far to trust it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[non_exhaustive]
+pub struct Diagnostics {
+    /// Solver iterations (0 for direct methods).
+    pub iterations: usize,
+    /// Wall-clock time of the estimate, in seconds.
+    pub solve_seconds: f64,
+    /// Optimal objective value where the method has one (for `sdp`: the TV norm).
+    pub objective: Option<f64>,
+    /// Minimum separation of the recovered support times `fc` (`None` for fewer than two spikes).
+    pub separation_fc: Option<f64>,
+    /// Residual norm `‖y − Fμ̂‖₂`.
+    pub residual_norm: f64,
+    /// Data norm `‖y‖₂`, for scale.
+    pub data_norm: f64,
+    /// The noise level used, where one was used.
+    pub sigma: Option<f64>,
+    /// Whether `sigma` was estimated from the data (true) or given (false).
+    pub sigma_estimated: bool,
+    /// The dual certificate, for methods that produce one.
+    pub certificate: Option<Certificate>,
+    /// Plain-language cautions.
+    pub warnings: Vec<Warning>,
+}
+
+impl Diagnostics {
+    /// Diagnostics for `spikes` fitted to `data`: separation, residual and the separation warnings.
+    pub fn describe(data: &Measurements, spikes: &Spikes) -> Self {
+        let sep = spikes.min_separation();
+        let separation_fc = sep.is_finite().then(|| sep * data.fc());
+        let mut warnings = Vec::new();
+        if spikes.is_empty() {
+            warnings.push(Warning::NoSpikes);
+        }
+        if let Some(s) = separation_fc {
+            if s < 1.0 {
+                warnings.push(Warning::BelowRayleigh { separation_fc: s });
+            } else if s < PROVEN_SEPARATION_FC {
+                warnings.push(Warning::BelowProvenSeparation { separation_fc: s });
+            }
+        }
+        Diagnostics {
+            iterations: 0,
+            solve_seconds: 0.0,
+            objective: None,
+            separation_fc,
+            residual_norm: data.residual_norm(spikes),
+            data_norm: data.norm(),
+            sigma: None,
+            sigma_estimated: false,
+            certificate: None,
+            warnings,
+        }
+    }
+}
+
+/// The result of an estimator: spikes, status and diagnostics.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Estimate {
+    /// The method that produced it.
+    pub method: &'static str,
+    /// Recovered spikes, sorted by position.
+    pub spikes: Spikes,
+    /// How the computation went.
+    pub status: Status,
+    /// Trust figures and cautions.
+    pub diagnostics: Diagnostics,
+    /// The dual polynomial behind the estimate, for methods that have one (not serialised).
+    #[serde(skip)]
+    pub dual: Option<DualPolynomial>,
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::Domain;
+    use num_complex::Complex64;
+
+    #[test]
+    fn separation_warnings_follow_the_thresholds() {
+        let idx: Vec<i64> = (-10..=10).collect();
+        let data =
+            Measurements::in_band(-10, 10, &idx, &vec![Complex64::new(0.0, 0.0); 21], Domain::Fourier)
+                .unwrap();
+        let one = Complex64::new(1.0, 0.0);
+        let at = |d: f64| Spikes::from_parts(&[0.2, 0.2 + d / 10.0], &[one, one]).unwrap();
+        let w = Diagnostics::describe(&data, &at(1.5)).warnings;
+        assert!(w.is_empty());
+        let w = Diagnostics::describe(&data, &at(1.1)).warnings;
+        assert!(matches!(w[..], [Warning::BelowProvenSeparation { .. }]));
+        let w = Diagnostics::describe(&data, &at(0.8)).warnings;
+        assert!(matches!(w[..], [Warning::BelowRayleigh { .. }]));
+        assert!(w[0].to_string().starts_with("UNDER-RESOLVED"));
+    }
+
+    #[test]
+    fn estimators_are_send_and_sync() {
+        fn check<T: Send + Sync>() {}
+        check::<Box<dyn Estimator>>();
+        check::<Estimate>();
+    }
+}

@@ -1,0 +1,593 @@
+//! The measurement model: spikes on the torus, validated Fourier measurements, the forward operator.
+//!
+//! Conventions (used throughout the crate):
+//! - a spike train `μ = Σ_j a_j δ(t − τ_j)` with positions `τ_j ∈ [0, 1)` and complex amplitudes `a_j`;
+//! - Fourier data `y_k = Σ_j a_j exp(−i2πkτ_j) + n_k` for `k` in a measured set `K` inside a contiguous
+//!   band `kmin..=kmax` (the symmetric band `−fc..=fc` when built with [`Measurements::fourier`]);
+//! - time samples `x_n = Σ_j a_j exp(i2πf_j n)`, `n = 0..N−1`, are the same model with `k = −n` and
+//!   `τ_j = f_j` ([`Measurements::from_time_samples`]).
+//!
+//! The Rayleigh length of a band of `N = kmax − kmin + 1` coefficients is `1/fc` with
+//! `fc = (N − 1)/2`; separations are reported in these units ("Rayleigh units").
+
+use crate::error::{Error, Result};
+use num_complex::Complex64;
+use serde::{Deserialize, Serialize};
+use std::f64::consts::PI;
+
+/// Wrap a real number onto the torus `[0, 1)`.
+pub fn wrap(t: f64) -> f64 {
+    let w = t - t.floor();
+    // `t - floor(t)` can round up to exactly 1.0 for tiny negative t.
+    if w >= 1.0 {
+        0.0
+    } else {
+        w
+    }
+}
+
+/// Wrap-around distance on the torus: `d(t, s) = min(|t − s|, 1 − |t − s|)` for wrapped arguments.
+pub fn wrap_distance(t: f64, s: f64) -> f64 {
+    let d = wrap(t - s);
+    d.min(1.0 - d)
+}
+
+/// Signed wrap-around difference `t − s`, in `[−1/2, 1/2)`.
+pub fn wrap_difference(t: f64, s: f64) -> f64 {
+    wrap(t - s + 0.5) - 0.5
+}
+
+/// Minimum wrap-around distance between any two of `positions` (`+∞` for fewer than two).
+pub fn min_separation(positions: &[f64]) -> f64 {
+    let mut sorted: Vec<f64> = positions.iter().map(|&t| wrap(t)).collect();
+    sorted.sort_by(f64::total_cmp);
+    if sorted.len() < 2 {
+        return f64::INFINITY;
+    }
+    let mut best = 1.0 - sorted[sorted.len() - 1] + sorted[0];
+    for w in sorted.windows(2) {
+        best = best.min(w[1] - w[0]);
+    }
+    best
+}
+
+/// One point source or spectral line: a position on the torus and a complex amplitude.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+pub struct Spike {
+    /// Position `τ ∈ [0, 1)` (for time-domain data: frequency in cycles per sample).
+    pub position: f64,
+    /// Complex amplitude `a`.
+    #[serde(with = "complex_pair")]
+    pub amplitude: Complex64,
+}
+
+impl Spike {
+    /// A spike at `position` (wrapped onto `[0, 1)`) with amplitude `amplitude`.
+    pub fn new(position: f64, amplitude: Complex64) -> Self {
+        Spike {
+            position: wrap(position),
+            amplitude,
+        }
+    }
+}
+
+/// A validated, position-sorted set of spikes. Serialised as a plain list of spikes.
+#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+#[serde(into = "Vec<Spike>", try_from = "Vec<Spike>")]
+pub struct Spikes {
+    spikes: Vec<Spike>,
+}
+
+impl Spikes {
+    /// Build from a list of spikes: positions are wrapped onto `[0, 1)` and sorted.
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] if a position or amplitude is NaN or infinite.
+    pub fn new(spikes: Vec<Spike>) -> Result<Self> {
+        for (i, s) in spikes.iter().enumerate() {
+            if !s.position.is_finite() {
+                return Err(Error::NonFinite {
+                    what: "spike position",
+                    index: i,
+                    value: s.position.to_string(),
+                });
+            }
+            if !(s.amplitude.re.is_finite() && s.amplitude.im.is_finite()) {
+                return Err(Error::NonFinite {
+                    what: "spike amplitude",
+                    index: i,
+                    value: s.amplitude.to_string(),
+                });
+            }
+        }
+        let mut spikes: Vec<Spike> = spikes
+            .into_iter()
+            .map(|s| Spike::new(s.position, s.amplitude))
+            .collect();
+        spikes.sort_by(|a, b| a.position.total_cmp(&b.position));
+        Ok(Spikes { spikes })
+    }
+
+    /// Build from parallel slices of positions and amplitudes.
+    ///
+    /// # Errors
+    /// [`Error::LengthMismatch`] for slices of different lengths, [`Error::NonFinite`] as in [`Spikes::new`].
+    pub fn from_parts(positions: &[f64], amplitudes: &[Complex64]) -> Result<Self> {
+        if positions.len() != amplitudes.len() {
+            return Err(Error::LengthMismatch {
+                what: "positions against amplitudes",
+                left: positions.len(),
+                right: amplitudes.len(),
+            });
+        }
+        Spikes::new(
+            positions
+                .iter()
+                .zip(amplitudes)
+                .map(|(&p, &a)| Spike {
+                    position: p,
+                    amplitude: a,
+                })
+                .collect(),
+        )
+    }
+
+    /// No spikes.
+    pub fn empty() -> Self {
+        Spikes::default()
+    }
+
+    /// Number of spikes.
+    pub fn len(&self) -> usize {
+        self.spikes.len()
+    }
+
+    /// True when there are no spikes.
+    pub fn is_empty(&self) -> bool {
+        self.spikes.is_empty()
+    }
+
+    /// The spikes, sorted by position.
+    pub fn as_slice(&self) -> &[Spike] {
+        &self.spikes
+    }
+
+    /// Iterate over the spikes.
+    pub fn iter(&self) -> std::slice::Iter<'_, Spike> {
+        self.spikes.iter()
+    }
+
+    /// Positions, sorted.
+    pub fn positions(&self) -> Vec<f64> {
+        self.spikes.iter().map(|s| s.position).collect()
+    }
+
+    /// Amplitudes, in position order.
+    pub fn amplitudes(&self) -> Vec<Complex64> {
+        self.spikes.iter().map(|s| s.amplitude).collect()
+    }
+
+    /// Total-variation norm `‖μ‖_TV = Σ_j |a_j|`.
+    pub fn tv_norm(&self) -> f64 {
+        self.spikes.iter().map(|s| s.amplitude.norm()).sum()
+    }
+
+    /// Minimum wrap-around separation (`+∞` for fewer than two spikes).
+    pub fn min_separation(&self) -> f64 {
+        min_separation(&self.positions())
+    }
+}
+
+impl From<Spikes> for Vec<Spike> {
+    fn from(s: Spikes) -> Self {
+        s.spikes
+    }
+}
+
+impl TryFrom<Vec<Spike>> for Spikes {
+    type Error = Error;
+    fn try_from(v: Vec<Spike>) -> Result<Self> {
+        Spikes::new(v)
+    }
+}
+
+impl<'a> IntoIterator for &'a Spikes {
+    type Item = &'a Spike;
+    type IntoIter = std::slice::Iter<'a, Spike>;
+    fn into_iter(self) -> Self::IntoIter {
+        self.spikes.iter()
+    }
+}
+
+/// Which physical view the data came from; the mathematics is the same (see the module docs).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Domain {
+    /// Fourier coefficients `y_k` of a spike train on the torus.
+    Fourier,
+    /// Uniform time samples `x_n` of a sum of complex exponentials (spectral lines).
+    Time,
+}
+
+/// Validated band-limited measurements: values `y_k` at distinct indices `k` inside a contiguous band.
+///
+/// Validation happens once, here; every estimator may rely on it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Measurements {
+    indices: Vec<i64>,
+    values: Vec<Complex64>,
+    kmin: i64,
+    kmax: i64,
+    domain: Domain,
+}
+
+impl Measurements {
+    /// Fourier coefficients `y_k` measured at `indices ⊆ {−fc, …, fc}` (any order; stored sorted).
+    ///
+    /// # Errors
+    /// [`Error::ZeroCutoff`] for `fc = 0`; [`Error::Empty`] for no samples; [`Error::LengthMismatch`];
+    /// [`Error::NonFinite`] for NaN or infinite values; [`Error::DuplicateIndex`];
+    /// [`Error::IndexOutOfBand`] for `|k| > fc`.
+    pub fn fourier(fc: usize, indices: &[i64], values: &[Complex64]) -> Result<Self> {
+        if fc == 0 {
+            return Err(Error::ZeroCutoff);
+        }
+        let fc = i64::try_from(fc).map_err(|_| Error::InvalidSetting {
+            name: "fc",
+            value: fc.to_string(),
+            rule: "the cutoff must fit in a 64-bit signed integer",
+        })?;
+        Self::in_band(-fc, fc, indices, values, Domain::Fourier)
+    }
+
+    /// All `2fc + 1` Fourier coefficients `y_{−fc}, …, y_{fc}`, in that order.
+    ///
+    /// # Errors
+    /// As [`Measurements::fourier`]; [`Error::LengthMismatch`] if `values.len() != 2fc + 1`.
+    pub fn full_band(fc: usize, values: &[Complex64]) -> Result<Self> {
+        if fc == 0 {
+            return Err(Error::ZeroCutoff);
+        }
+        if values.len() != 2 * fc + 1 {
+            return Err(Error::LengthMismatch {
+                what: "values against the band −fc..=fc",
+                left: values.len(),
+                right: 2 * fc + 1,
+            });
+        }
+        let f = fc as i64;
+        let idx: Vec<i64> = (-f..=f).collect();
+        Self::fourier(fc, &idx, values)
+    }
+
+    /// `N` uniform time samples `x_0, …, x_{N−1}` of a sum of complex exponentials.
+    ///
+    /// Stored as Fourier data with `k = −n` (band `−(N−1)..=0`); positions are frequencies in cycles per
+    /// sample.
+    ///
+    /// # Errors
+    /// [`Error::Empty`] for no samples, [`Error::ZeroCutoff`] for a single sample,
+    /// [`Error::NonFinite`] for NaN or infinite values.
+    pub fn from_time_samples(samples: &[Complex64]) -> Result<Self> {
+        let n = samples.len();
+        if n == 0 {
+            return Err(Error::Empty {
+                what: "time samples",
+            });
+        }
+        if n == 1 {
+            return Err(Error::ZeroCutoff);
+        }
+        let idx: Vec<i64> = (0..n as i64).map(|i| -i).collect();
+        Self::in_band(-(n as i64 - 1), 0, &idx, samples, Domain::Time)
+    }
+
+    /// Time samples at integer times `times` (a subset of `0..N` with `N = max + 1`; gaps allowed).
+    ///
+    /// # Errors
+    /// As [`Measurements::from_time_samples`], plus [`Error::DuplicateIndex`], [`Error::LengthMismatch`]
+    /// and [`Error::IndexOutOfBand`] for negative times.
+    pub fn from_time_subset(times: &[i64], samples: &[Complex64]) -> Result<Self> {
+        if times.is_empty() {
+            return Err(Error::Empty {
+                what: "time samples",
+            });
+        }
+        let tmax = times.iter().copied().max().unwrap_or(0);
+        if tmax < 1 {
+            return Err(Error::ZeroCutoff);
+        }
+        let idx: Vec<i64> = times.iter().map(|&t| -t).collect();
+        Self::in_band(-tmax, 0, &idx, samples, Domain::Time)
+    }
+
+    /// General constructor: values at distinct `indices` inside the contiguous band `kmin..=kmax`.
+    ///
+    /// # Errors
+    /// As [`Measurements::fourier`]; [`Error::ZeroCutoff`] if `kmax <= kmin`.
+    pub fn in_band(
+        kmin: i64,
+        kmax: i64,
+        indices: &[i64],
+        values: &[Complex64],
+        domain: Domain,
+    ) -> Result<Self> {
+        if kmax <= kmin {
+            return Err(Error::ZeroCutoff);
+        }
+        if indices.is_empty() {
+            return Err(Error::Empty {
+                what: "measurement indices",
+            });
+        }
+        if indices.len() != values.len() {
+            return Err(Error::LengthMismatch {
+                what: "indices against values",
+                left: indices.len(),
+                right: values.len(),
+            });
+        }
+        for (i, v) in values.iter().enumerate() {
+            if !(v.re.is_finite() && v.im.is_finite()) {
+                return Err(Error::NonFinite {
+                    what: "sample",
+                    index: i,
+                    value: v.to_string(),
+                });
+            }
+        }
+        let mut pairs: Vec<(i64, Complex64)> =
+            indices.iter().copied().zip(values.iter().copied()).collect();
+        pairs.sort_by_key(|p| p.0);
+        for w in pairs.windows(2) {
+            if w[0].0 == w[1].0 {
+                return Err(Error::DuplicateIndex { k: w[0].0 });
+            }
+        }
+        for &(k, _) in &pairs {
+            if k < kmin || k > kmax {
+                return Err(Error::IndexOutOfBand { k, kmin, kmax });
+            }
+        }
+        Ok(Measurements {
+            indices: pairs.iter().map(|p| p.0).collect(),
+            values: pairs.iter().map(|p| p.1).collect(),
+            kmin,
+            kmax,
+            domain,
+        })
+    }
+
+    /// Noiseless measurements of `spikes` at `indices` in the band `kmin..=kmax` (exact forward model).
+    ///
+    /// # Errors
+    /// As [`Measurements::in_band`].
+    pub fn synthesize(
+        spikes: &Spikes,
+        kmin: i64,
+        kmax: i64,
+        indices: &[i64],
+        domain: Domain,
+    ) -> Result<Self> {
+        let values = forward(spikes, indices);
+        Self::in_band(kmin, kmax, indices, &values, domain)
+    }
+
+    /// The measured indices `K`, sorted ascending.
+    pub fn indices(&self) -> &[i64] {
+        &self.indices
+    }
+
+    /// The measured values, in index order.
+    pub fn values(&self) -> &[Complex64] {
+        &self.values
+    }
+
+    /// Lowest index of the band.
+    pub fn kmin(&self) -> i64 {
+        self.kmin
+    }
+
+    /// Highest index of the band.
+    pub fn kmax(&self) -> i64 {
+        self.kmax
+    }
+
+    /// Number of coefficients in the full band, `N = kmax − kmin + 1`.
+    pub fn band_len(&self) -> usize {
+        (self.kmax - self.kmin + 1) as usize
+    }
+
+    /// Number of measured coefficients `|K|`.
+    pub fn len(&self) -> usize {
+        self.indices.len()
+    }
+
+    /// Always false: validated measurements hold at least one value.
+    pub fn is_empty(&self) -> bool {
+        self.indices.is_empty()
+    }
+
+    /// The cutoff `fc = (N − 1)/2` that sets the Rayleigh length `1/fc` of the band.
+    pub fn fc(&self) -> f64 {
+        (self.kmax - self.kmin) as f64 / 2.0
+    }
+
+    /// The physical view the data came from.
+    pub fn domain(&self) -> Domain {
+        self.domain
+    }
+
+    /// True when every index of the band is measured.
+    pub fn is_full_band(&self) -> bool {
+        self.indices.len() == self.band_len()
+    }
+
+    /// True when the measured indices are contiguous (no gaps, possibly a sub-band).
+    pub fn is_contiguous(&self) -> bool {
+        let n = self.indices.len();
+        self.indices[n - 1] - self.indices[0] + 1 == n as i64
+    }
+
+    /// Euclidean norm of the data, `‖y‖₂`.
+    pub fn norm(&self) -> f64 {
+        self.values.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt()
+    }
+
+    /// Residual `y − Fμ` of a spike train against these measurements.
+    pub fn residual(&self, spikes: &Spikes) -> Vec<Complex64> {
+        let model = forward(spikes, &self.indices);
+        self.values.iter().zip(model).map(|(y, m)| y - m).collect()
+    }
+
+    /// Residual norm `‖y − Fμ‖₂`.
+    pub fn residual_norm(&self, spikes: &Spikes) -> f64 {
+        self.residual(spikes)
+            .iter()
+            .map(|r| r.norm_sqr())
+            .sum::<f64>()
+            .sqrt()
+    }
+
+    /// Replace the values (same indices), validating them.
+    ///
+    /// # Errors
+    /// [`Error::LengthMismatch`] or [`Error::NonFinite`].
+    pub fn with_values(&self, values: &[Complex64]) -> Result<Self> {
+        Self::in_band(self.kmin, self.kmax, &self.indices, values, self.domain)
+    }
+}
+
+/// The forward operator `F: μ ↦ (Σ_j a_j exp(−i2πkτ_j))_{k ∈ indices}`, by direct sums (each phase
+/// reduced modulo 1 first, see [`atom`]).
+pub fn forward(spikes: &Spikes, indices: &[i64]) -> Vec<Complex64> {
+    let mut out = vec![Complex64::new(0.0, 0.0); indices.len()];
+    for s in spikes {
+        for (o, &k) in out.iter_mut().zip(indices) {
+            *o += s.amplitude * atom(k, s.position);
+        }
+    }
+    out
+}
+
+/// One entry of the forward operator: `exp(−i2πkτ)`.
+///
+/// The product `kτ` is reduced modulo 1 before the exponential to keep full accuracy for large `k`.
+#[inline]
+pub fn atom(k: i64, tau: f64) -> Complex64 {
+    let phase = wrap(k as f64 * tau);
+    Complex64::from_polar(1.0, -2.0 * PI * phase)
+}
+
+/// Dense forward matrix `Φ_{kj} = exp(−i2πkτ_j)` (rows: `indices`, columns: `positions`), row-major.
+///
+/// The brute-force oracle for every fast operator in the crate, and the design matrix for least squares.
+pub fn forward_matrix(indices: &[i64], positions: &[f64]) -> Vec<Vec<Complex64>> {
+    indices
+        .iter()
+        .map(|&k| positions.iter().map(|&t| atom(k, t)).collect())
+        .collect()
+}
+
+/// Serialise a complex number as `[re, im]`.
+pub(crate) mod complex_pair {
+    use num_complex::Complex64;
+    use serde::{Deserialize, Deserializer, Serialize, Serializer};
+
+    pub fn serialize<S: Serializer>(z: &Complex64, s: S) -> Result<S::Ok, S::Error> {
+        [z.re, z.im].serialize(s)
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<Complex64, D::Error> {
+        let [re, im] = <[f64; 2]>::deserialize(d)?;
+        Ok(Complex64::new(re, im))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn c(re: f64, im: f64) -> Complex64 {
+        Complex64::new(re, im)
+    }
+
+    #[test]
+    fn wrap_distance_is_symmetric_and_wraps() {
+        assert!((wrap_distance(0.05, 0.95) - 0.1).abs() < 1e-15);
+        assert!((wrap_distance(0.95, 0.05) - 0.1).abs() < 1e-15);
+        assert!((wrap_distance(0.2, 0.7) - 0.5).abs() < 1e-15);
+        assert!((wrap_difference(0.05, 0.95) - 0.1).abs() < 1e-15);
+        assert!((wrap_difference(0.95, 0.05) + 0.1).abs() < 1e-15);
+        assert_eq!(wrap(-1e-18), 0.0);
+        assert!((wrap(-0.25) - 0.75).abs() < 1e-15);
+    }
+
+    #[test]
+    fn min_separation_wraps_around() {
+        assert!((min_separation(&[0.02, 0.5, 0.97]) - 0.05).abs() < 1e-12);
+        assert_eq!(min_separation(&[0.3]), f64::INFINITY);
+    }
+
+    #[test]
+    fn time_samples_are_fourier_data_with_k_minus_n() {
+        // x_n = a exp(i2π f n) must equal the Fourier model at k = −n.
+        let f = 0.123;
+        let a = c(0.5, -1.5);
+        let x: Vec<Complex64> = (0..9)
+            .map(|n| a * Complex64::from_polar(1.0, 2.0 * PI * f * n as f64))
+            .collect();
+        let m = Measurements::from_time_samples(&x).unwrap();
+        assert_eq!(m.kmin(), -8);
+        assert_eq!(m.kmax(), 0);
+        assert_eq!(m.fc(), 4.0);
+        let spikes = Spikes::from_parts(&[f], &[a]).unwrap();
+        assert!(m.residual_norm(&spikes) < 1e-13);
+    }
+
+    #[test]
+    fn forward_matches_matrix_oracle() {
+        let spikes = Spikes::from_parts(&[0.1, 0.7], &[c(1.0, 0.0), c(0.0, 2.0)]).unwrap();
+        let idx: Vec<i64> = (-5..=5).collect();
+        let fast = forward(&spikes, &idx);
+        let phi = forward_matrix(&idx, &spikes.positions());
+        for (row, f) in phi.iter().zip(&fast) {
+            let dense: Complex64 = row.iter().zip(spikes.amplitudes()).map(|(p, a)| p * a).sum();
+            assert!((dense - f).norm() < 1e-14);
+        }
+    }
+
+    #[test]
+    fn validation_errors() {
+        let v = vec![c(1.0, 0.0); 3];
+        assert_eq!(
+            Measurements::fourier(0, &[0], &[c(1.0, 0.0)]),
+            Err(Error::ZeroCutoff)
+        );
+        assert_eq!(
+            Measurements::fourier(2, &[0, 1, 1], &v),
+            Err(Error::DuplicateIndex { k: 1 })
+        );
+        assert_eq!(
+            Measurements::fourier(2, &[0, 1, 3], &v),
+            Err(Error::IndexOutOfBand {
+                k: 3,
+                kmin: -2,
+                kmax: 2
+            })
+        );
+        assert!(matches!(
+            Measurements::fourier(2, &[0, 1], &v),
+            Err(Error::LengthMismatch { .. })
+        ));
+        assert!(matches!(
+            Measurements::fourier(2, &[], &[]),
+            Err(Error::Empty { .. })
+        ));
+        let bad = vec![c(1.0, 0.0), c(f64::NAN, 0.0), c(0.0, 0.0)];
+        assert!(matches!(
+            Measurements::fourier(2, &[0, 1, 2], &bad),
+            Err(Error::NonFinite { index: 1, .. })
+        ));
+    }
+}

@@ -1,0 +1,97 @@
+//! Shared helpers for the integration tests: the reference cases in `tests/refdata` (a copy of the
+//! project's reference data; see its README: truth files are invented, seeded scenes, and the reference
+//! results were computed with cvxpy + SCS and numpy).
+#![allow(dead_code)]
+
+use finespike::io::{parse_samples, parse_spikes_json, SpikeFile};
+use finespike::{wrap_distance, Domain, Measurements, Spikes};
+use std::path::PathBuf;
+
+/// Folder of the reference data.
+pub fn refdata() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/refdata")
+}
+
+/// A reference case: its measurements (band as recorded in the manifest) and its truth.
+pub struct Case {
+    pub name: String,
+    pub data: Measurements,
+    pub truth: SpikeFile,
+}
+
+/// Load case `name`. Time-domain cases (`td_*`) hold `x_n` written with `k = −n`, band `−(N−1)..=0`;
+/// the others use the band `−fc..=fc` of the truth file.
+pub fn load_case(name: &str) -> Case {
+    let dir = refdata().join("cases");
+    let csv = std::fs::read_to_string(dir.join(format!("{name}.csv"))).expect("case csv");
+    let rows = parse_samples(&csv, name).expect("parse case csv");
+    let json = std::fs::read_to_string(dir.join(format!("{name}.truth.json"))).expect("truth json");
+    let truth = parse_spikes_json(&json, name).expect("parse truth");
+    let fc = truth.fc.expect("truth has fc") as i64;
+    let data = if name.starts_with("td_") {
+        let kmin = *rows.indices.iter().min().unwrap();
+        Measurements::in_band(kmin, 0, &rows.indices, &rows.values, Domain::Time).unwrap()
+    } else {
+        Measurements::in_band(-fc, fc, &rows.indices, &rows.values, Domain::Fourier).unwrap()
+    };
+    Case {
+        name: name.to_string(),
+        data,
+        truth,
+    }
+}
+
+/// Names of all cases whose name starts with `prefix`, sorted.
+pub fn case_names(prefix: &str) -> Vec<String> {
+    let mut names: Vec<String> = std::fs::read_dir(refdata().join("cases"))
+        .expect("cases folder")
+        .filter_map(|e| e.ok())
+        .map(|e| e.file_name().to_string_lossy().to_string())
+        .filter(|n| n.ends_with(".csv") && n.starts_with(prefix))
+        .map(|n| n.trim_end_matches(".csv").to_string())
+        .collect();
+    names.sort();
+    names
+}
+
+/// Score of an estimate against the truth: every true spike matched to its nearest estimate
+/// (one-to-one required), errors in Rayleigh units and relative amplitude error.
+#[derive(Debug)]
+pub struct Score {
+    pub found: usize,
+    pub spurious: usize,
+    pub max_pos_err_fc: f64,
+    pub max_rel_amp_err: f64,
+}
+
+pub fn score(estimate: &Spikes, truth: &Spikes, fc: f64) -> Score {
+    let mut used = vec![false; estimate.len()];
+    let mut found = 0;
+    let mut max_pos: f64 = 0.0;
+    let mut max_amp: f64 = 0.0;
+    for t in truth {
+        let best = estimate
+            .iter()
+            .enumerate()
+            .filter(|(i, _)| !used[*i])
+            .min_by(|a, b| {
+                wrap_distance(a.1.position, t.position)
+                    .total_cmp(&wrap_distance(b.1.position, t.position))
+            });
+        if let Some((i, e)) = best {
+            let d = wrap_distance(e.position, t.position) * fc;
+            if d < 0.5 {
+                used[i] = true;
+                found += 1;
+                max_pos = max_pos.max(d);
+                max_amp = max_amp.max((e.amplitude - t.amplitude).norm() / t.amplitude.norm());
+            }
+        }
+    }
+    Score {
+        found,
+        spurious: estimate.len() - found,
+        max_pos_err_fc: if found > 0 { max_pos } else { f64::INFINITY },
+        max_rel_amp_err: if found > 0 { max_amp } else { f64::INFINITY },
+    }
+}
