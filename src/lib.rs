@@ -32,14 +32,18 @@
 #![warn(missing_docs)]
 
 pub mod amplitudes;
+pub mod bounds;
 pub mod dual;
 pub mod error;
 pub mod estimator;
 pub mod io;
+pub mod metrics;
 pub mod model;
+pub mod noise;
 pub mod refine;
 pub mod scenario;
 pub mod sdp;
+pub mod subspace;
 
 // The pure-Rust BLAS/LAPACK symbols clarabel's PSD cone links against.
 #[cfg(feature = "pure-lapack")]

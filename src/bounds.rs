@@ -1,0 +1,1 @@
+//! Cramér–Rao bounds for positions and amplitudes of several spikes.

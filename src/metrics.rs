@@ -1,0 +1,1 @@
+//! Matching recovered spikes to the truth and error figures.

@@ -1,0 +1,1 @@
+//! Noise-level estimation from the data.

@@ -1,0 +1,1 @@
+//! Subspace baselines: MUSIC and root-MUSIC, ESPRIT, matrix pencil, model-order selection.
