@@ -22,8 +22,8 @@ pub const CLASSICAL_SEPARATION_FC: f64 = 2.0;
 ///
 /// # Examples
 /// ```
-/// use finespike::{Estimator, TvExact};
-/// let methods: Vec<Box<dyn Estimator>> = vec![Box::new(TvExact::default())];
+/// use finespike::{Estimator, Tv};
+/// let methods: Vec<Box<dyn Estimator>> = vec![Box::new(Tv::exact())];
 /// assert_eq!(methods[0].name(), "sdp");
 /// ```
 pub trait Estimator: Send + Sync + fmt::Debug {
@@ -36,6 +36,37 @@ pub trait Estimator: Send + Sync + fmt::Debug {
     /// Only for data the method cannot handle at all (e.g. gaps in `K` for a subspace method);
     /// solver trouble is reported in [`Estimate::status`].
     fn estimate(&self, data: &Measurements) -> Result<Estimate>;
+}
+
+/// The noise level a noise-aware estimator works with.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub enum NoiseLevel {
+    /// Exact data: fit the measurements exactly.
+    Exact,
+    /// Complex white Gaussian noise of this standard deviation (`E|n_k|² = σ²`).
+    Known(f64),
+    /// Estimate `σ` from the data (the usual case); exact data are detected and fitted exactly.
+    #[default]
+    Estimate,
+}
+
+impl NoiseLevel {
+    /// Check a known level: finite and non-negative.
+    ///
+    /// # Errors
+    /// [`crate::Error::InvalidSetting`] for NaN, infinite or negative `σ`.
+    pub fn validated(self) -> Result<Self> {
+        if let NoiseLevel::Known(s) = self {
+            if !(s.is_finite() && s >= 0.0) {
+                return Err(crate::Error::InvalidSetting {
+                    name: "sigma",
+                    value: s.to_string(),
+                    rule: "the noise level must be finite and non-negative",
+                });
+            }
+        }
+        Ok(self)
+    }
 }
 
 /// How the computation behind an estimate went.

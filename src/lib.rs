@@ -9,15 +9,15 @@
 //! [`Estimate`]: spikes, a [`Status`] and [`Diagnostics`] (separation against the proven thresholds,
 //! residual, dual certificate, plain-language warnings).
 //!
-//! The main method, [`TvExact`] (`sdp`), minimises the total-variation norm through its dual, a
+//! The main method, [`Tv`] (`sdp`), minimises the total-variation norm through its dual, a
 //! semidefinite program solved with clarabel; the support is where the dual polynomial reaches modulus
 //! one (Candès & Fernandez-Granda 2014, CPAM 67(6)).
 //!
 //! ```
-//! use finespike::{Estimator, Scenario, TvExact};
+//! use finespike::{Estimator, Scenario, Tv};
 //! // An invented scene: 3 spikes at fc = 8, closest pair 1.5/fc apart, exact data.
 //! let sample = Scenario::new(8, 3).with_separation(1.5).with_seed(7).generate()?;
-//! let estimate = TvExact::default().estimate(&sample.data)?;
+//! let estimate = Tv::exact().estimate(&sample.data)?;
 //! assert!(estimate.status.is_usable());
 //! assert_eq!(estimate.spikes.len(), 3);
 //! for (found, truth) in estimate.spikes.iter().zip(sample.truth.iter()) {
@@ -40,6 +40,7 @@ pub mod io;
 pub mod metrics;
 pub mod model;
 pub mod noise;
+pub mod postprocess;
 pub mod refine;
 pub mod scenario;
 pub mod sdp;
@@ -51,14 +52,15 @@ extern crate finespike_lapack;
 
 pub use dual::{Certificate, DualPolynomial};
 pub use error::{Error, Result};
-pub use estimator::{Diagnostics, Estimate, Estimator, Status, Warning};
+pub use estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
 pub use model::{wrap_distance, Domain, Measurements, Spike, Spikes};
 pub use refine::RefineSettings;
 pub use scenario::{AmplitudeKind, Sample, Scenario};
-pub use sdp::{SdpSettings, TvExact};
+pub use postprocess::PostProcess;
+pub use sdp::{Ast, SdpSettings, Tv};
 
 /// Names of the estimators available through [`estimator_by_name`].
-pub const METHODS: &[&str] = &["sdp"];
+pub const METHODS: &[&str] = &["sdp", "ast"];
 
 /// An estimator with default settings, by its method name.
 ///
@@ -66,7 +68,8 @@ pub const METHODS: &[&str] = &["sdp"];
 /// [`Error::UnknownMethod`] for a name not in [`METHODS`].
 pub fn estimator_by_name(name: &str) -> Result<Box<dyn Estimator>> {
     match name {
-        "sdp" => Ok(Box::new(TvExact::default())),
+        "sdp" => Ok(Box::new(Tv::default())),
+        "ast" => Ok(Box::new(Ast::default())),
         _ => Err(Error::UnknownMethod {
             name: name.to_string(),
             known: METHODS.join(", "),

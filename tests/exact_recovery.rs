@@ -3,7 +3,7 @@
 mod common;
 
 use common::{case_names, load_case, score};
-use finespike::{AmplitudeKind, Estimator, Scenario, TvExact, Warning};
+use finespike::{AmplitudeKind, Estimator, Scenario, Tv, Warning};
 
 /// Positions to 1e-9 Rayleigh units and amplitudes to 1e-9 relative (the acceptance level is
 /// 1e-5): the interior point stops at a 1e-8 gap and locates the points where |q| = 1 to about 1e-5/fc;
@@ -14,7 +14,7 @@ const POS_TOL_FC: f64 = 1e-9;
 const AMP_TOL: f64 = 1e-9;
 
 fn check_exact(name: &str, sample: &finespike::Sample, fc: f64) {
-    let est = TvExact::default().estimate(&sample.data).unwrap();
+    let est = Tv::exact().estimate(&sample.data).unwrap();
     assert!(est.status.is_usable(), "{name}: status {}", est.status);
     let s = score(&est.spikes, &sample.truth, fc);
     assert_eq!(s.found, sample.truth.len(), "{name}: {s:?}");
@@ -101,7 +101,7 @@ fn reference_subsampled_and_time_domain_cases() {
 fn under_resolved_cases_carry_warnings() {
     for name in case_names("nl_").into_iter().filter(|n| n.contains("s0p80")) {
         let (sample, fc) = case_sample(&name);
-        let est = TvExact::default().estimate(&sample.data).unwrap();
+        let est = Tv::exact().estimate(&sample.data).unwrap();
         if let Some(sep) = est.diagnostics.separation_fc {
             if sep < 1.0 {
                 assert!(

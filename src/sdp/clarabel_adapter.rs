@@ -4,7 +4,7 @@
 //! its PSD-triangle cone and the faer supernodal LDLᵀ (`direct_solve_method = "faer"`), which on this
 //! problem's dense PSD block is an order of magnitude faster than the default QDLDL.
 
-use super::compact::ConicProgram;
+use super::compact::{Cone, ConicProgram};
 use crate::error::{Error, Result};
 use crate::estimator::Status;
 use clarabel::algebra::CscMatrix;
@@ -47,7 +47,6 @@ pub(crate) fn map_status(s: SolverStatus) -> Status {
 
 /// Solve `prog` (with optional extra cones appended after the PSD block and a quadratic term `p`).
 pub(crate) fn solve(prog: &ConicProgram, settings: IpmSettings) -> Result<ConicSolution> {
-    let size = prog.n + 2;
     let rows = prog.b.len();
     let a = CscMatrix::new(
         rows,
@@ -56,8 +55,26 @@ pub(crate) fn solve(prog: &ConicProgram, settings: IpmSettings) -> Result<ConicS
         prog.a_rowval.clone(),
         prog.a_nzval.clone(),
     );
-    let p = CscMatrix::<f64>::zeros((prog.nvars, prog.nvars));
-    let cones = [SupportedConeT::PSDTriangleConeT(size)];
+    // P is diagonal: one entry per column where nonzero.
+    let mut p_colptr = vec![0];
+    let mut p_rowval = Vec::new();
+    let mut p_nzval = Vec::new();
+    for (i, &d) in prog.p_diag.iter().enumerate() {
+        if d != 0.0 {
+            p_rowval.push(i);
+            p_nzval.push(d);
+        }
+        p_colptr.push(p_rowval.len());
+    }
+    let p = CscMatrix::new(prog.nvars, prog.nvars, p_colptr, p_rowval, p_nzval);
+    let cones: Vec<SupportedConeT<f64>> = prog
+        .cones
+        .iter()
+        .map(|c| match *c {
+            Cone::Psd(size) => SupportedConeT::PSDTriangleConeT(size),
+            Cone::Soc(dim) => SupportedConeT::SecondOrderConeT(dim),
+        })
+        .collect();
     let built = DefaultSettingsBuilder::default()
         .verbose(false)
         .max_iter(settings.max_iter)
@@ -86,7 +103,7 @@ pub(crate) fn solve(prog: &ConicProgram, settings: IpmSettings) -> Result<ConicS
         z: sol.z.clone(),
         status: map_status(sol.status),
         iterations: sol.iterations as usize,
-        primal_objective: sol.obj_val,
-        dual_objective: sol.obj_val_dual,
+        primal_objective: sol.obj_val + prog.offset,
+        dual_objective: sol.obj_val_dual + prog.offset,
     })
 }

@@ -142,9 +142,28 @@ impl CentroUnitary {
 pub(crate) enum Formulation {
     /// `min ‖x‖_A` subject to `x_K = y` (exact data).
     Exact,
+    /// `min ‖x‖_A` subject to `‖x_K − y‖₂ ≤ δ` (noise of known level).
+    Constrained {
+        /// Radius `δ` of the data-fit ball.
+        delta: f64,
+    },
+    /// `min ½‖x_K − y‖₂² + τ‖x‖_A` (atomic-norm soft thresholding).
+    Penalised {
+        /// Regularisation weight `τ`.
+        tau: f64,
+    },
 }
 
-/// A conic program in clarabel's standard form `min ½vᵀPv + qᵀv  s.t.  Av + s = b, s ∈ PSD(N+2)`,
+/// A cone of clarabel's, in the order its rows appear in `A` and `b`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) enum Cone {
+    /// The PSD triangle cone of a real symmetric matrix of this size.
+    Psd(usize),
+    /// A second-order cone of this dimension.
+    Soc(usize),
+}
+
+/// A conic program in clarabel's standard form `min ½vᵀPv + qᵀv  s.t.  Av + s = b, s ∈ K`,
 /// plus what is needed to read the certificate back.
 #[derive(Debug, Clone)]
 pub(crate) struct ConicProgram {
@@ -152,14 +171,20 @@ pub(crate) struct ConicProgram {
     pub n: usize,
     /// Number of variables.
     pub nvars: usize,
+    /// Diagonal of `P` (the only quadratic terms are `½|x_k|²`).
+    pub p_diag: Vec<f64>,
     /// Linear objective.
     pub q: Vec<f64>,
+    /// Constant added to the objective (`½‖y‖²` for the penalised form).
+    pub offset: f64,
     /// Constraint matrix in CSC form: column pointers, row indices, values.
     pub a_colptr: Vec<usize>,
     pub a_rowval: Vec<usize>,
     pub a_nzval: Vec<f64>,
-    /// Right-hand side (length `(N+2)(N+3)/2`).
+    /// Right-hand side.
     pub b: Vec<f64>,
+    /// The cones, in row order.
+    pub cones: Vec<Cone>,
     /// Objective weight `γ` on `u₀ + t₁ + t₂`.
     pub gamma: f64,
     /// The unitary used.
@@ -174,22 +199,59 @@ pub(crate) fn svec_index(row: usize, col: usize) -> usize {
 
 impl ConicProgram {
     /// Assemble the compact real problem for data `y` on the shifted band `0..n` (entries `None` are
-    /// unmeasured and become free variables).
+    /// unmeasured and always free variables; measured entries are fixed for [`Formulation::Exact`] and
+    /// variables otherwise).
     pub fn assemble(n: usize, data: &[Option<Complex64>], formulation: Formulation) -> Self {
-        let Formulation::Exact = formulation;
-        let gamma = 0.5;
+        let gamma = match formulation {
+            Formulation::Penalised { tau } => 0.5 * tau,
+            _ => 0.5,
+        };
         let unitary = CentroUnitary::new(n);
         let basis = unitary.toeplitz_basis();
         let size = n + 2;
-        let rows = size * (size + 1) / 2;
-        let free: Vec<usize> = (0..n).filter(|&i| data[i].is_none()).collect();
-        let nvars = (2 * n - 1) + 3 + 2 * free.len();
+        let psd_rows = size * (size + 1) / 2;
+        let exact = matches!(formulation, Formulation::Exact);
+        let data_vars: Vec<usize> = (0..n)
+            .filter(|&i| data[i].is_none() || !exact)
+            .collect();
+        let first_data_var = (2 * n - 1) + 3;
+        let nvars = first_data_var + 2 * data_vars.len();
         let mut q = vec![0.0; nvars];
+        let mut p_diag = vec![0.0; nvars];
+        let mut offset = 0.0;
         let t1 = 2 * n - 1;
         let t2 = t1 + 1;
         q[0] = gamma;
         q[t1] = gamma;
         q[t2] = gamma;
+        // Measured entries that are variables, with their position in the SOC block.
+        let measured: Vec<(usize, Complex64)> = data_vars
+            .iter()
+            .enumerate()
+            .filter_map(|(v, &i)| data[i].map(|y| (v, y)))
+            .collect();
+        if let Formulation::Penalised { .. } = formulation {
+            // ½|ξ − y|² = ½|ξ|² − Re(ȳ ξ) + ½|y|²
+            for &(v, y) in &measured {
+                let (re, im) = (first_data_var + 2 * v, first_data_var + 2 * v + 1);
+                p_diag[re] = 1.0;
+                p_diag[im] = 1.0;
+                q[re] = -y.re;
+                q[im] = -y.im;
+                offset += 0.5 * y.norm_sqr();
+            }
+        }
+        let soc_rows = match formulation {
+            Formulation::Constrained { .. } => 1 + 2 * measured.len(),
+            _ => 0,
+        };
+        let soc_slot: Vec<Option<usize>> = {
+            let mut slot = vec![None; data_vars.len()];
+            for (j, &(v, _)) in measured.iter().enumerate() {
+                slot[v] = Some(j);
+            }
+            slot
+        };
 
         let mut colptr = Vec::with_capacity(nvars + 1);
         let mut rowval = Vec::new();
@@ -215,49 +277,70 @@ impl ConicProgram {
             nzval.push(-scale);
             colptr.push(rowval.len());
         }
-        // Free data entries ξ_i = α + iβ: z += Uᴴ e_i ξ_i, i.e. a += Re(ū_i·) α − Im(ū_i·) β and
-        // b += Im(ū_i·) α + Re(ū_i·) β, in columns n (a) and n + 1 (b) of M.
-        for &i in &free {
+        // Data variables ξ_i = α + iβ: z += Uᴴ e_i ξ_i, i.e. a += Re(ū_i·) α − Im(ū_i·) β and
+        // b += Im(ū_i·) α + Re(ū_i·) β, in columns n (a) and n + 1 (b) of M; measured ones also enter
+        // the second-order cone as ξ − y.
+        for (v, &i) in data_vars.iter().enumerate() {
             for part in 0..2 {
                 for row in 0..n {
                     let w = unitary.at(i, row).conj();
                     let (da, db) = if part == 0 { (w.re, w.im) } else { (-w.im, w.re) };
-                    for (col, v) in [(n, da), (n + 1, db)] {
-                        if v.abs() > 1e-14 {
+                    for (col, val) in [(n, da), (n + 1, db)] {
+                        if val.abs() > 1e-14 {
                             rowval.push(svec_index(row, col));
-                            nzval.push(-sqrt2 * v);
+                            nzval.push(-sqrt2 * val);
                         }
+                    }
+                }
+                if soc_rows > 0 {
+                    if let Some(j) = soc_slot[v] {
+                        rowval.push(psd_rows + 1 + 2 * j + part);
+                        nzval.push(-1.0);
                     }
                 }
                 colptr.push(rowval.len());
             }
         }
-        // Right-hand side: the measured part of x enters M as a constant.
-        let x0: Vec<Complex64> = data
-            .iter()
-            .map(|d| d.unwrap_or(Complex64::new(0.0, 0.0)))
+        // Right-hand side: fixed data enter M as a constant; the cone row δ and −y for the SOC.
+        let x0: Vec<Complex64> = (0..n)
+            .map(|i| match (exact, data[i]) {
+                (true, Some(y)) => y,
+                _ => Complex64::new(0.0, 0.0),
+            })
             .collect();
         let z0 = unitary.adjoint_apply(&x0);
-        let mut b = vec![0.0; rows];
+        let mut b = vec![0.0; psd_rows + soc_rows];
         for row in 0..n {
             b[svec_index(row, n)] = sqrt2 * z0[row].re;
             b[svec_index(row, n + 1)] = sqrt2 * z0[row].im;
         }
+        let mut cones = vec![Cone::Psd(size)];
+        if let Formulation::Constrained { delta } = formulation {
+            b[psd_rows] = delta;
+            for (j, &(_, y)) in measured.iter().enumerate() {
+                b[psd_rows + 1 + 2 * j] = -y.re;
+                b[psd_rows + 2 + 2 * j] = -y.im;
+            }
+            cones.push(Cone::Soc(soc_rows));
+        }
         ConicProgram {
             n,
             nvars,
+            p_diag,
             q,
+            offset,
             a_colptr: colptr,
             a_rowval: rowval,
             a_nzval: nzval,
             b,
+            cones,
             gamma,
             unitary,
         }
     }
 
-    /// The dual vector `c` (on the shifted band `0..n`) from clarabel's dual variable `z` (svec of `Z`):
-    /// `c = −U (w_a + i w_b) / γ` with `w_a = Z[0..n, n]`, `w_b = Z[0..n, n+1]`.
+    /// The dual vector `c` (on the shifted band `0..n`) from clarabel's dual variable `z` (svec of `Z`
+    /// first): `c = −U (w_a + i w_b) / γ` with `w_a = Z[0..n, n]`, `w_b = Z[0..n, n+1]`.
     pub fn dual_coefficients(&self, z: &[f64]) -> Vec<Complex64> {
         let n = self.n;
         let inv = std::f64::consts::FRAC_1_SQRT_2;

@@ -1,0 +1,211 @@
+//! Post-processing shared by every estimator: merge near-duplicate positions, least-squares (debiased)
+//! amplitudes, drop spikes below a noise-based amplitude floor, and an optional local nonlinear
+//! least-squares polish of positions and amplitudes together ([`crate::refine`]).
+
+use crate::amplitudes;
+use crate::error::{Error, Result};
+use crate::model::{wrap, wrap_difference, Measurements, Spikes};
+use crate::refine::{refine, RefineSettings};
+
+/// Settings of the shared post-processing.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PostProcess {
+    /// Candidate positions closer than this many Rayleigh lengths are merged into one (default 0.05).
+    pub merge_distance_fc: f64,
+    /// With noise of level `σ`, drop spikes with `|a| < floor_sigmas · σ / √|K|` (default 4). The
+    /// least-squares amplitude of an isolated spike has standard deviation `σ/√|K|`, so a spike below
+    /// four of those is indistinguishable from noise (common practice: a 4-sigma detection level).
+    pub floor_sigmas: f64,
+    /// Without noise, drop spikes with `|a|` below this fraction of the largest (default 1e-6): such
+    /// points carry no mass in an exact fit.
+    pub relative_floor: f64,
+    /// Local least-squares polish (default on, never moving a spike more than 0.25/fc).
+    pub refine: Option<RefineSettings>,
+}
+
+impl Default for PostProcess {
+    fn default() -> Self {
+        PostProcess {
+            merge_distance_fc: 0.05,
+            floor_sigmas: 4.0,
+            relative_floor: 1e-6,
+            refine: Some(RefineSettings::default()),
+        }
+    }
+}
+
+impl PostProcess {
+    /// Set the merge distance in Rayleigh units, in `[0, 0.5]`.
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] outside that range.
+    pub fn with_merge_distance_fc(mut self, d: f64) -> Result<Self> {
+        if !(0.0..=0.5).contains(&d) {
+            return Err(Error::InvalidSetting {
+                name: "merge_distance_fc",
+                value: d.to_string(),
+                rule: "must lie in [0, 0.5]",
+            });
+        }
+        self.merge_distance_fc = d;
+        Ok(self)
+    }
+
+    /// Set the noise floor in units of `σ/√|K|` (non-negative).
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] for a negative or NaN value.
+    pub fn with_floor_sigmas(mut self, k: f64) -> Result<Self> {
+        if k.is_nan() || k < 0.0 {
+            return Err(Error::InvalidSetting {
+                name: "floor_sigmas",
+                value: k.to_string(),
+                rule: "must be non-negative",
+            });
+        }
+        self.floor_sigmas = k;
+        Ok(self)
+    }
+
+    /// Turn the least-squares polish on (with these settings) or off.
+    pub fn with_refine(mut self, refine: Option<RefineSettings>) -> Self {
+        self.refine = refine;
+        self
+    }
+
+    /// The amplitude floor for data `data` with noise level `sigma` (`None` or 0: exact data).
+    fn floor(&self, data: &Measurements, sigma: Option<f64>, amax: f64) -> f64 {
+        match sigma {
+            Some(s) if s > 0.0 => self.floor_sigmas * s / (data.len() as f64).sqrt(),
+            _ => self.relative_floor * amax,
+        }
+    }
+
+    /// Turn candidate positions into spikes: merge, fit, drop, polish, drop again.
+    ///
+    /// # Errors
+    /// From the least-squares fits ([`amplitudes::least_squares`]).
+    pub fn apply(
+        &self,
+        data: &Measurements,
+        candidates: &[f64],
+        sigma: Option<f64>,
+    ) -> Result<Spikes> {
+        let positions = merge_positions(candidates, self.merge_distance_fc / data.fc());
+        let mut spikes = self.fit_above_floor(data, &positions, sigma)?;
+        if let Some(rs) = self.refine {
+            let refined = refine(data, &spikes, rs)?;
+            spikes = refined.spikes;
+            let positions = merge_positions(&spikes.positions(), self.merge_distance_fc / data.fc());
+            if positions.len() < spikes.len() {
+                spikes = amplitudes::fit(data, &positions)?;
+            }
+            let amax = max_abs(&spikes);
+            let floor = self.floor(data, sigma, amax);
+            if spikes.iter().any(|s| s.amplitude.norm() < floor) {
+                let kept: Vec<f64> = spikes
+                    .iter()
+                    .filter(|s| s.amplitude.norm() >= floor)
+                    .map(|s| s.position)
+                    .collect();
+                spikes = amplitudes::fit(data, &kept)?;
+            }
+        }
+        Ok(spikes)
+    }
+
+    fn fit_above_floor(
+        &self,
+        data: &Measurements,
+        positions: &[f64],
+        sigma: Option<f64>,
+    ) -> Result<Spikes> {
+        let mut positions = positions.to_vec();
+        // Drop the weakest spike below the floor one at a time: removing one changes the others' fit.
+        loop {
+            let spikes = amplitudes::fit(data, &positions)?;
+            let amax = max_abs(&spikes);
+            let floor = self.floor(data, sigma, amax);
+            let weakest = spikes
+                .iter()
+                .enumerate()
+                .min_by(|a, b| a.1.amplitude.norm().total_cmp(&b.1.amplitude.norm()));
+            match weakest {
+                Some((i, s)) if s.amplitude.norm() < floor => {
+                    positions = spikes.positions();
+                    positions.remove(i);
+                }
+                _ => return Ok(spikes),
+            }
+        }
+    }
+}
+
+fn max_abs(spikes: &Spikes) -> f64 {
+    spikes
+        .iter()
+        .map(|s| s.amplitude.norm())
+        .fold(0.0, f64::max)
+}
+
+/// Merge positions closer than `tol` (wrap-around) into their mean; result sorted.
+pub fn merge_positions(positions: &[f64], tol: f64) -> Vec<f64> {
+    let mut sorted: Vec<f64> = positions.iter().map(|&t| wrap(t)).collect();
+    sorted.sort_by(f64::total_cmp);
+    let mut groups: Vec<Vec<f64>> = Vec::new();
+    for t in sorted {
+        match groups.last_mut() {
+            Some(g) if wrap_difference(t, g[g.len() - 1]).abs() < tol => g.push(t),
+            _ => groups.push(vec![t]),
+        }
+    }
+    // The last group may wrap around onto the first.
+    if groups.len() > 1 {
+        let first = groups[0][0];
+        let last_group = &groups[groups.len() - 1];
+        if wrap_difference(first, last_group[last_group.len() - 1]).abs() < tol {
+            let last = groups.pop().unwrap_or_default();
+            groups[0].extend(last);
+        }
+    }
+    let mut merged: Vec<f64> = groups
+        .iter()
+        .map(|g| {
+            let base = g[0];
+            let mean_offset =
+                g.iter().map(|&t| wrap_difference(t, base)).sum::<f64>() / g.len() as f64;
+            wrap(base + mean_offset)
+        })
+        .collect();
+    merged.sort_by(f64::total_cmp);
+    merged
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::{forward, Domain};
+    use num_complex::Complex64;
+
+    #[test]
+    fn merges_close_positions_including_across_zero() {
+        let m = merge_positions(&[0.1, 0.1001, 0.5, 0.9999, 0.0002], 0.001);
+        assert_eq!(m.len(), 3);
+        assert!((m[0] - 0.00005).abs() < 1e-12 || (m[2] - 0.00005).abs() < 1e-12, "{m:?}");
+        assert!(m.iter().any(|&t| (t - 0.10005).abs() < 1e-12));
+    }
+
+    #[test]
+    fn drops_spikes_below_the_noise_floor() {
+        let truth = Spikes::from_parts(&[0.2], &[Complex64::new(1.0, 0.0)]).unwrap();
+        let idx: Vec<i64> = (-8..=8).collect();
+        let data =
+            Measurements::in_band(-8, 8, &idx, &forward(&truth, &idx), Domain::Fourier).unwrap();
+        // A candidate far from the line gets a zero amplitude and must go.
+        let out = PostProcess::default()
+            .apply(&data, &[0.2, 0.6], Some(0.01))
+            .unwrap();
+        assert_eq!(out.len(), 1);
+        assert!((out.positions()[0] - 0.2).abs() < 1e-12);
+    }
+}
