@@ -85,8 +85,8 @@ mod tests {
         )
         .unwrap();
         let idx: Vec<i64> = (-10..=10).collect();
-        let data = Measurements::in_band(-10, 10, &idx, &forward(&truth, &idx), Domain::Fourier)
-            .unwrap();
+        let data =
+            Measurements::in_band(-10, 10, &idx, &forward(&truth, &idx), Domain::Fourier).unwrap();
         let a = least_squares(&data, &truth.positions()).unwrap();
         for (x, y) in a.iter().zip(truth.amplitudes()) {
             assert!((x - y).norm() < 1e-12);

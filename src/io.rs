@@ -98,25 +98,38 @@ pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
         if record.len() != 3 {
             return Err(parse_err(
                 line,
-                format!("found {} fields, expected 3 ({})", record.len(), names.join(",")),
+                format!(
+                    "found {} fields, expected 3 ({})",
+                    record.len(),
+                    names.join(",")
+                ),
             ));
         }
         let idx_text = &record[0];
         let k: i64 = idx_text.parse().map_err(|_| {
             parse_err(
                 line,
-                format!("found '{idx_text}' in column {}, expected an integer", names[0]),
+                format!(
+                    "found '{idx_text}' in column {}, expected an integer",
+                    names[0]
+                ),
             )
         })?;
         let num = |col: usize| -> Result<f64> {
             let t = &record[col];
             let v: f64 = t.parse().map_err(|_| {
-                parse_err(line, format!("found '{t}' in column {}, expected a number", names[col]))
+                parse_err(
+                    line,
+                    format!("found '{t}' in column {}, expected a number", names[col]),
+                )
             })?;
             if !v.is_finite() {
                 return Err(parse_err(
                     line,
-                    format!("found '{t}' in column {}, expected a finite number", names[col]),
+                    format!(
+                        "found '{t}' in column {}, expected a finite number",
+                        names[col]
+                    ),
                 ));
             }
             Ok(v)
@@ -232,7 +245,10 @@ pub fn spikes_to_csv(spikes: &Spikes) -> String {
         amplitude,
     } in spikes
     {
-        out.push_str(&format!("{position:e},{:e},{:e}\n", amplitude.re, amplitude.im));
+        out.push_str(&format!(
+            "{position:e},{:e},{:e}\n",
+            amplitude.re, amplitude.im
+        ));
     }
     out
 }

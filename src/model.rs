@@ -336,8 +336,11 @@ impl Measurements {
                 });
             }
         }
-        let mut pairs: Vec<(i64, Complex64)> =
-            indices.iter().copied().zip(values.iter().copied()).collect();
+        let mut pairs: Vec<(i64, Complex64)> = indices
+            .iter()
+            .copied()
+            .zip(values.iter().copied())
+            .collect();
         pairs.sort_by_key(|p| p.0);
         for w in pairs.windows(2) {
             if w[0].0 == w[1].0 {
@@ -552,7 +555,11 @@ mod tests {
         let fast = forward(&spikes, &idx);
         let phi = forward_matrix(&idx, &spikes.positions());
         for (row, f) in phi.iter().zip(&fast) {
-            let dense: Complex64 = row.iter().zip(spikes.amplitudes()).map(|(p, a)| p * a).sum();
+            let dense: Complex64 = row
+                .iter()
+                .zip(spikes.amplitudes())
+                .map(|(p, a)| p * a)
+                .sum();
             assert!((dense - f).norm() < 1e-14);
         }
     }

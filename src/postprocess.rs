@@ -96,7 +96,8 @@ impl PostProcess {
         if let Some(rs) = self.refine {
             let refined = refine(data, &spikes, rs)?;
             spikes = refined.spikes;
-            let positions = merge_positions(&spikes.positions(), self.merge_distance_fc / data.fc());
+            let positions =
+                merge_positions(&spikes.positions(), self.merge_distance_fc / data.fc());
             if positions.len() < spikes.len() {
                 spikes = amplitudes::fit(data, &positions)?;
             }
@@ -191,7 +192,10 @@ mod tests {
     fn merges_close_positions_including_across_zero() {
         let m = merge_positions(&[0.1, 0.1001, 0.5, 0.9999, 0.0002], 0.001);
         assert_eq!(m.len(), 3);
-        assert!((m[0] - 0.00005).abs() < 1e-12 || (m[2] - 0.00005).abs() < 1e-12, "{m:?}");
+        assert!(
+            (m[0] - 0.00005).abs() < 1e-12 || (m[2] - 0.00005).abs() < 1e-12,
+            "{m:?}"
+        );
         assert!(m.iter().any(|&t| (t - 0.10005).abs() < 1e-12));
     }
 

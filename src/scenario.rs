@@ -124,7 +124,7 @@ impl Scenario {
         }
         let fc = self.fc as f64;
         let d = self.separation_fc / fc;
-        if !(d > 0.0) || d * self.count as f64 > 1.0 {
+        if d.is_nan() || d <= 0.0 || d * self.count as f64 > 1.0 {
             return Err(bad(
                 "separation",
                 self.separation_fc,
@@ -132,7 +132,11 @@ impl Scenario {
             ));
         }
         if !(self.subset_fraction > 0.0 && self.subset_fraction <= 1.0) {
-            return Err(bad("subset_fraction", self.subset_fraction, "must lie in (0, 1]"));
+            return Err(bad(
+                "subset_fraction",
+                self.subset_fraction,
+                "must lie in (0, 1]",
+            ));
         }
         if let Some(snr) = self.snr_db {
             if !snr.is_finite() {
@@ -165,7 +169,9 @@ impl Scenario {
         }
         let mut values = forward(&truth, &idx);
         let amin = amps.iter().map(|a| a.norm()).fold(f64::INFINITY, f64::min);
-        let sigma = self.snr_db.map_or(0.0, |snr| amin * 10f64.powf(-snr / 20.0));
+        let sigma = self
+            .snr_db
+            .map_or(0.0, |snr| amin * 10f64.powf(-snr / 20.0));
         if sigma > 0.0 {
             // E|n|² = σ²: real and imaginary parts each have variance σ²/2.
             let s = sigma / std::f64::consts::SQRT_2;
@@ -250,6 +256,9 @@ mod tests {
     fn bad_settings_are_errors() {
         assert!(Scenario::new(0, 1).generate().is_err());
         assert!(Scenario::new(4, 5).with_separation(1.0).generate().is_err());
-        assert!(Scenario::new(4, 1).with_subset_fraction(0.0).generate().is_err());
+        assert!(Scenario::new(4, 1)
+            .with_subset_fraction(0.0)
+            .generate()
+            .is_err());
     }
 }

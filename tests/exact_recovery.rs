@@ -29,7 +29,10 @@ fn check_exact(name: &str, sample: &finespike::Sample, fc: f64) {
     let fine_max = (0..m)
         .map(|j| q.eval(j as f64 / m as f64).norm())
         .fold(0.0, f64::max);
-    assert!(fine_max <= 1.0 + 1e-6, "{name}: max |q| on the fine grid {fine_max}");
+    assert!(
+        fine_max <= 1.0 + 1e-6,
+        "{name}: max |q| on the fine grid {fine_max}"
+    );
 }
 
 /// Separations 2/fc (Candès & Fernandez-Granda 2014, CPAM 67(6), Thm. 1.2) and 1.26/fc
@@ -99,7 +102,10 @@ fn reference_subsampled_and_time_domain_cases() {
 /// Below the Rayleigh limit the estimate must say so plainly whenever it reports lines that close.
 #[test]
 fn under_resolved_cases_carry_warnings() {
-    for name in case_names("nl_").into_iter().filter(|n| n.contains("s0p80")) {
+    for name in case_names("nl_")
+        .into_iter()
+        .filter(|n| n.contains("s0p80"))
+    {
         let (sample, fc) = case_sample(&name);
         let est = Tv::exact().estimate(&sample.data).unwrap();
         if let Some(sep) = est.diagnostics.separation_fc {

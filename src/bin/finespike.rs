@@ -168,14 +168,26 @@ fn run(cli: Cli) -> Result<(), Failure> {
                     DomainArg::Time => Domain::Time,
                 };
                 if want != rows.domain {
-                    let header = if rows.domain == Domain::Fourier { "k,re,im" } else { "n,re,im" };
+                    let header = if rows.domain == Domain::Fourier {
+                        "k,re,im"
+                    } else {
+                        "n,re,im"
+                    };
                     return Err(Failure::Input(Error::Parse {
                         source_name: input.display().to_string(),
                         line: 1,
                         message: format!(
                             "--domain {} expects header '{}', found '{header}'",
-                            if want == Domain::Fourier { "fourier" } else { "time" },
-                            if want == Domain::Fourier { "k,re,im" } else { "n,re,im" },
+                            if want == Domain::Fourier {
+                                "fourier"
+                            } else {
+                                "time"
+                            },
+                            if want == Domain::Fourier {
+                                "k,re,im"
+                            } else {
+                                "n,re,im"
+                            },
                         ),
                     }));
                 }
@@ -225,7 +237,8 @@ fn run(cli: Cli) -> Result<(), Failure> {
                 sigma: Some(sample.sigma),
                 spikes: sample.truth.clone(),
             };
-            let json = serde_json::to_string_pretty(&file).map_err(|e| Failure::Output(e.to_string()))?;
+            let json =
+                serde_json::to_string_pretty(&file).map_err(|e| Failure::Output(e.to_string()))?;
             write(&out, &io::samples_to_csv(&sample.data))?;
             write(&truth, &json)?;
             Ok(())

@@ -90,13 +90,12 @@ pub(crate) fn solve(prog: &ConicProgram, settings: IpmSettings) -> Result<ConicS
             step: "clarabel settings",
             detail: e.to_string(),
         })?;
-    let mut solver =
-        DefaultSolver::new(&p, &prog.q, &a, &prog.b, &cones, built).map_err(|e| {
-            Error::Numerical {
-                step: "clarabel problem set-up",
-                detail: e.to_string(),
-            }
-        })?;
+    let mut solver = DefaultSolver::new(&p, &prog.q, &a, &prog.b, &cones, built).map_err(|e| {
+        Error::Numerical {
+            step: "clarabel problem set-up",
+            detail: e.to_string(),
+        }
+    })?;
     solver.solve();
     let sol = &solver.solution;
     Ok(ConicSolution {

@@ -211,9 +211,7 @@ impl ConicProgram {
         let size = n + 2;
         let psd_rows = size * (size + 1) / 2;
         let exact = matches!(formulation, Formulation::Exact);
-        let data_vars: Vec<usize> = (0..n)
-            .filter(|&i| data[i].is_none() || !exact)
-            .collect();
+        let data_vars: Vec<usize> = (0..n).filter(|&i| data[i].is_none() || !exact).collect();
         let first_data_var = (2 * n - 1) + 3;
         let nvars = first_data_var + 2 * data_vars.len();
         let mut q = vec![0.0; nvars];
@@ -284,7 +282,11 @@ impl ConicProgram {
             for part in 0..2 {
                 for row in 0..n {
                     let w = unitary.at(i, row).conj();
-                    let (da, db) = if part == 0 { (w.re, w.im) } else { (-w.im, w.re) };
+                    let (da, db) = if part == 0 {
+                        (w.re, w.im)
+                    } else {
+                        (-w.im, w.re)
+                    };
                     for (col, val) in [(n, da), (n + 1, db)] {
                         if val.abs() > 1e-14 {
                             rowval.push(svec_index(row, col));
@@ -345,12 +347,7 @@ impl ConicProgram {
         let n = self.n;
         let inv = std::f64::consts::FRAC_1_SQRT_2;
         let w: Vec<Complex64> = (0..n)
-            .map(|row| {
-                Complex64::new(
-                    z[svec_index(row, n)] * inv,
-                    z[svec_index(row, n + 1)] * inv,
-                )
-            })
+            .map(|row| Complex64::new(z[svec_index(row, n)] * inv, z[svec_index(row, n + 1)] * inv))
             .collect();
         self.unitary
             .apply(&w)
@@ -397,7 +394,11 @@ mod tests {
                         }
                     }
                     let tr = if n > 0 { col[0].re } else { 0.0 };
-                    assert!(acc.im.abs() < 1e-14 * (1.0 + tr), "n = {n}: imag {}", acc.im);
+                    assert!(
+                        acc.im.abs() < 1e-14 * (1.0 + tr),
+                        "n = {n}: imag {}",
+                        acc.im
+                    );
                 }
             }
         }
