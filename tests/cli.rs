@@ -116,8 +116,8 @@ fn malformed_inputs_fail_with_a_clear_message() {
         ),
         (
             "dup.csv",
-            "k,re,im\n0,1,0\n0,1,0\n",
-            "appears more than once",
+            "k,re,im\n0,1,0\n1,1,0\n1,1,0\n",
+            "k = 1 appears more than once",
         ),
         ("nan.csv", "k,re,im\n0,nan,0\n", "expected a finite number"),
         ("empty.csv", "k,re,im\n", "empty"),
