@@ -164,6 +164,23 @@ pub enum Warning {
     },
     /// No spike was found.
     NoSpikes,
+    /// The residual is larger than the noise level explains: a line may be missing, or `σ` is too low.
+    ResidualAboveNoise {
+        /// `‖y − Fμ̂‖² / (σ² (|K| − 1.5 s))`, about 1 for a correct model.
+        ratio: f64,
+    },
+    /// The residual is smaller than the noise level explains: the fit follows the noise (spurious lines
+    /// likely), or `σ` is too high.
+    ResidualBelowNoise {
+        /// `‖y − Fμ̂‖² / (σ² (|K| − 1.5 s))`, about 1 for a correct model.
+        ratio: f64,
+    },
+    /// At this noise level the Cramér–Rao bound puts a line's position uncertainty at a sizeable fraction
+    /// of a Rayleigh length or of the distance to its neighbour.
+    NoisyPositions {
+        /// Largest plug-in CRB standard deviation of a position, in Rayleigh units.
+        worst_std_fc: f64,
+    },
 }
 
 impl fmt::Display for Warning {
@@ -196,6 +213,22 @@ impl fmt::Display for Warning {
                  converged solution"
             ),
             Warning::NoSpikes => f.write_str("no spike was found"),
+            Warning::ResidualAboveNoise { ratio } => write!(
+                f,
+                "the residual is {ratio:.2}× what the noise level explains: a line may be missing or \
+                 the noise level is underestimated"
+            ),
+            Warning::ResidualBelowNoise { ratio } => write!(
+                f,
+                "the residual is only {ratio:.2}× what the noise level explains: the fit follows the \
+                 noise (spurious lines likely) or the noise level is overestimated"
+            ),
+            Warning::NoisyPositions { worst_std_fc } => write!(
+                f,
+                "NOISE-LIMITED: the noise allows position errors of ±{worst_std_fc:.3}/fc (one \
+                 standard deviation, Cramér–Rao bound) — comparable to the line spacing or the \
+                 resolution claimed; treat close lines with caution"
+            ),
         }
     }
 }
@@ -230,6 +263,15 @@ pub struct Diagnostics {
     pub certificate: Option<Certificate>,
     /// Plain-language cautions.
     pub warnings: Vec<Warning>,
+    /// The model order (number of spikes) a subspace method worked with, and how it was chosen
+    /// (`None` for methods without a model-order step).
+    pub model_order: Option<crate::subspace::ModelOrder>,
+    /// `‖y − Fμ̂‖² / (σ² (|K| − 1.5 s))` when a noise level is known or estimated: near 1 when the
+    /// residual is consistent with the noise (3 real parameters per spike against 2 per sample).
+    pub residual_ratio: Option<f64>,
+    /// Plug-in Cramér–Rao standard deviation of each position, in Rayleigh units (estimates taken as
+    /// truth; Stoica & Nehorai 1989, IEEE TASSP 37(5)), in spike order.
+    pub crb_std_position_fc: Option<Vec<f64>>,
 }
 
 impl Diagnostics {
@@ -259,6 +301,60 @@ impl Diagnostics {
             sigma_estimated: false,
             certificate: None,
             warnings,
+            model_order: None,
+            residual_ratio: None,
+            crb_std_position_fc: None,
+        }
+    }
+
+    /// Record the noise level and judge the estimate against it: residual consistency (a χ² check:
+    /// `2‖n‖²/σ²` is χ² with `2·dof` degrees of freedom, so the ratio has standard deviation `1/√dof`;
+    /// warn beyond 3 of those) and the plug-in Cramér–Rao bound of every position (warn when one
+    /// standard deviation exceeds 0.1/fc or a tenth of the distance to the nearest other spike).
+    pub fn assess_noise(
+        &mut self,
+        data: &Measurements,
+        spikes: &Spikes,
+        sigma: Option<f64>,
+        estimated: bool,
+    ) {
+        self.sigma = sigma;
+        self.sigma_estimated = estimated;
+        let Some(s) = sigma.filter(|s| *s > 0.0) else {
+            return;
+        };
+        let dof = (data.len() as f64 - 1.5 * spikes.len() as f64).max(1.0);
+        let ratio = self.residual_norm.powi(2) / (s * s * dof);
+        self.residual_ratio = Some(ratio);
+        let band = 3.0 / dof.sqrt();
+        if ratio > 1.0 + band {
+            self.warnings.push(Warning::ResidualAboveNoise { ratio });
+        } else if ratio < 1.0 - band {
+            self.warnings.push(Warning::ResidualBelowNoise { ratio });
+        }
+        if spikes.is_empty() {
+            return;
+        }
+        if let Ok(bound) = crate::bounds::crb_for(data, spikes, s) {
+            let stds: Vec<f64> = bound.per_spike.iter().map(|b| b.std_position_fc).collect();
+            let positions = spikes.positions();
+            let fc = data.fc();
+            let noisy = stds.iter().enumerate().any(|(i, &sd)| {
+                let nearest = positions
+                    .iter()
+                    .enumerate()
+                    .filter(|(j, _)| *j != i)
+                    .map(|(_, &p)| crate::model::wrap_distance(p, positions[i]) * fc)
+                    .fold(f64::INFINITY, f64::min);
+                sd > 0.1 || sd > 0.1 * nearest
+            });
+            if noisy {
+                let worst = stds.iter().copied().fold(0.0, f64::max);
+                self.warnings.push(Warning::NoisyPositions {
+                    worst_std_fc: worst,
+                });
+            }
+            self.crb_std_position_fc = Some(stds);
         }
     }
 }
@@ -288,9 +384,14 @@ mod tests {
     #[test]
     fn separation_warnings_follow_the_thresholds() {
         let idx: Vec<i64> = (-10..=10).collect();
-        let data =
-            Measurements::in_band(-10, 10, &idx, &vec![Complex64::new(0.0, 0.0); 21], Domain::Fourier)
-                .unwrap();
+        let data = Measurements::in_band(
+            -10,
+            10,
+            &idx,
+            &vec![Complex64::new(0.0, 0.0); 21],
+            Domain::Fourier,
+        )
+        .unwrap();
         let one = Complex64::new(1.0, 0.0);
         let at = |d: f64| Spikes::from_parts(&[0.2, 0.2 + d / 10.0], &[one, one]).unwrap();
         let w = Diagnostics::describe(&data, &at(1.5)).warnings;

@@ -33,9 +33,11 @@
 
 pub mod amplitudes;
 pub mod bounds;
+pub mod continuous;
 pub mod dual;
 pub mod error;
 pub mod estimator;
+pub mod greedy;
 pub mod io;
 pub mod metrics;
 pub mod model;
@@ -50,17 +52,25 @@ pub mod subspace;
 #[cfg(feature = "pure-lapack")]
 extern crate finespike_lapack;
 
+pub use bounds::{crb, crb_for, single_tone_position_variance, Crb, SpikeBound};
+pub use continuous::{Sfw, SfwSettings};
 pub use dual::{Certificate, DualPolynomial};
 pub use error::{Error, Result};
 pub use estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
+pub use greedy::{Greedy, GreedySettings};
+pub use metrics::{MatchSettings, Score};
 pub use model::{wrap_distance, Domain, Measurements, Spike, Spikes};
+pub use noise::{estimate_sigma, residual_sigma, SigmaEstimate, SigmaMethod};
+pub use postprocess::PostProcess;
 pub use refine::RefineSettings;
 pub use scenario::{AmplitudeKind, Sample, Scenario};
-pub use postprocess::PostProcess;
 pub use sdp::{Ast, SdpSettings, Tv};
+pub use subspace::{
+    Esprit, MatrixPencil, ModelOrder, Music, OrderMethod, OrderSelection, SubspaceSettings,
+};
 
 /// Names of the estimators available through [`estimator_by_name`].
-pub const METHODS: &[&str] = &["sdp", "ast"];
+pub const METHODS: &[&str] = &["sdp", "ast", "sfw", "greedy", "music", "esprit", "pencil"];
 
 /// An estimator with default settings, by its method name.
 ///
@@ -70,6 +80,11 @@ pub fn estimator_by_name(name: &str) -> Result<Box<dyn Estimator>> {
     match name {
         "sdp" => Ok(Box::new(Tv::default())),
         "ast" => Ok(Box::new(Ast::default())),
+        "sfw" => Ok(Box::new(Sfw::default())),
+        "greedy" => Ok(Box::new(greedy::Greedy::default())),
+        "music" => Ok(Box::new(Music::default())),
+        "esprit" => Ok(Box::new(Esprit::default())),
+        "pencil" => Ok(Box::new(MatrixPencil::default())),
         _ => Err(Error::UnknownMethod {
             name: name.to_string(),
             known: METHODS.join(", "),

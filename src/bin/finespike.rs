@@ -131,8 +131,13 @@ fn main() -> ExitCode {
 fn noise_level(sigma: Option<f64>) -> NoiseLevel {
     match sigma {
         None => NoiseLevel::Estimate,
-        Some(s) if s == 0.0 => NoiseLevel::Exact,
-        Some(s) => NoiseLevel::Known(s),
+        Some(s) => {
+            if s == 0.0 {
+                NoiseLevel::Exact
+            } else {
+                NoiseLevel::Known(s)
+            }
+        }
     }
 }
 
@@ -146,6 +151,14 @@ fn build_estimator(method: &str, sigma: Option<f64>) -> Result<Box<dyn Estimator
         "ast" => Box::new(Ast {
             noise,
             ..Ast::default()
+        }),
+        "sfw" => Box::new(finespike::Sfw {
+            noise,
+            ..finespike::Sfw::default()
+        }),
+        "greedy" => Box::new(finespike::greedy::Greedy {
+            noise,
+            ..finespike::greedy::Greedy::default()
         }),
         other => estimator_by_name(other)?,
     })

@@ -26,7 +26,6 @@
 //! from `|q| = 1`, amplitudes are debiased by least squares and polished on the exact model
 //! ([`crate::postprocess`]).
 
-
 mod clarabel_adapter;
 pub(crate) mod compact;
 
@@ -186,9 +185,21 @@ fn resolve_sigma(data: &Measurements, noise: NoiseLevel) -> Result<(Option<f64>,
     }
 }
 
-/// Estimate σ for a recovery (PENDING: wired to crate::noise once it lands).
-fn estimate_for_recovery(_data: &Measurements) -> Result<(Option<f64>, bool)> {
-    Ok((None, false))
+/// Estimate σ for a recovery: `None` (exact data) when the estimate is at rounding level relative to the
+/// data, `σ/‖y‖·√|K| < 1e-10`; otherwise the estimate from [`crate::noise::estimate_sigma`].
+fn estimate_for_recovery(data: &Measurements) -> Result<(Option<f64>, bool)> {
+    let est = crate::noise::estimate_sigma(data).map_err(|e| match e {
+        Error::Unsupported { reason, .. } => Error::Unsupported {
+            method: "noise-level estimate".into(),
+            reason: format!("{reason}. Give the noise level explicitly (sigma; 0 for exact data)"),
+        },
+        other => other,
+    })?;
+    let scale = data.norm() / (data.len() as f64).sqrt();
+    if est.sigma.is_nan() || est.sigma <= 1e-10 * scale {
+        return Ok((None, true));
+    }
+    Ok((Some(est.sigma), true))
 }
 
 /// Support from the dual polynomial, shared post-processing, certificate and diagnostics.
@@ -230,8 +241,7 @@ fn finish(
     diagnostics.certificate = Some(cert);
     diagnostics.iterations = report.iterations;
     diagnostics.objective = Some(report.objective);
-    diagnostics.sigma = sigma;
-    diagnostics.sigma_estimated = sigma_estimated;
+    diagnostics.assess_noise(data, &spikes, sigma, sigma_estimated);
     diagnostics.solve_seconds = start.elapsed().as_secs_f64();
     Ok(Estimate {
         method,

@@ -1,0 +1,127 @@
+//! Criterion benches of the subspace baselines by record length N (10 lines, 30 dB, order given).
+//!
+//! The record is an invented time-domain scene: 10 unit-modulus lines at frequencies spread over
+//! [0, 1) at least 4/N apart, complex white Gaussian noise at 30 dB per line (seeded). Data are built
+//! outside the timed closures.
+//!
+//! Groups: `esprit` (Auto, and the dense and randomized decompositions side by side to place the
+//! crossover), `pencil`, `music` (root-MUSIC is O(L³) in its companion matrix: N ≤ 1024), and
+//! `esprit_order` (order estimated with the default settings — MDL on these noisy records — instead
+//! of given).
+
+use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
+use finespike::subspace::{
+    Decomposition, Esprit, MatrixPencil, Music, OrderSelection, SubspaceSettings,
+};
+use finespike::{Estimator, Measurements};
+use num_complex::Complex64;
+use rand::rngs::StdRng;
+use rand::{Rng, SeedableRng};
+use rand_distr::StandardNormal;
+use std::f64::consts::PI;
+use std::hint::black_box;
+
+const LINES: usize = 10;
+const SIZES: [usize; 4] = [64, 256, 1024, 4096];
+/// ESPRIT also at the sizes around the dense/randomized crossover.
+const ESPRIT_SIZES: [usize; 7] = [64, 96, 128, 192, 256, 1024, 4096];
+
+fn record(n: usize) -> Measurements {
+    let mut rng = StdRng::seed_from_u64(n as u64);
+    let freqs: Vec<f64> = (0..LINES)
+        .map(|j| (j as f64 + 0.3 * rng.gen::<f64>()) / LINES as f64)
+        .collect();
+    let phases: Vec<f64> = (0..LINES).map(|_| 2.0 * PI * rng.gen::<f64>()).collect();
+    let sigma = 10f64.powf(-30.0 / 20.0);
+    let x: Vec<Complex64> = (0..n)
+        .map(|t| {
+            let clean: Complex64 = freqs
+                .iter()
+                .zip(&phases)
+                .map(|(&f, &ph)| Complex64::from_polar(1.0, 2.0 * PI * f * t as f64 + ph))
+                .sum();
+            let re: f64 = rng.sample(StandardNormal);
+            let im: f64 = rng.sample(StandardNormal);
+            clean + Complex64::new(re, im) * (sigma / std::f64::consts::SQRT_2)
+        })
+        .collect();
+    // Valid by construction: finite samples, n ≥ 2.
+    Measurements::from_time_samples(&x).expect("bench record")
+}
+
+fn given() -> SubspaceSettings {
+    SubspaceSettings::default()
+        .with_order(OrderSelection::Given(LINES))
+        .expect("order 10 is a valid setting")
+}
+
+fn bench_esprit(c: &mut Criterion) {
+    let mut group = c.benchmark_group("esprit");
+    group.sample_size(10);
+    for n in ESPRIT_SIZES {
+        let data = record(n);
+        let variants = [
+            ("auto", Decomposition::Auto),
+            ("dense", Decomposition::Dense),
+            ("randomized", Decomposition::Randomized),
+        ];
+        for (label, d) in variants {
+            if label == "dense" && n > 1024 {
+                continue; // tens of seconds per run: see the report's figures at N = 1024
+            }
+            let est = Esprit::new(given().with_decomposition(d));
+            group.bench_with_input(BenchmarkId::new(label, n), &data, |b, data| {
+                b.iter(|| black_box(est.estimate(data).expect("esprit")))
+            });
+        }
+    }
+    group.finish();
+}
+
+fn bench_pencil(c: &mut Criterion) {
+    let mut group = c.benchmark_group("pencil");
+    group.sample_size(10);
+    for n in SIZES {
+        let data = record(n);
+        let est = MatrixPencil::new(given());
+        group.bench_with_input(BenchmarkId::from_parameter(n), &data, |b, data| {
+            b.iter(|| black_box(est.estimate(data).expect("pencil")))
+        });
+    }
+    group.finish();
+}
+
+fn bench_music(c: &mut Criterion) {
+    let mut group = c.benchmark_group("music");
+    group.sample_size(10);
+    for n in [64, 256, 1024] {
+        let data = record(n);
+        let est = Music::new(given());
+        group.bench_with_input(BenchmarkId::from_parameter(n), &data, |b, data| {
+            b.iter(|| black_box(est.estimate(data).expect("music")))
+        });
+    }
+    group.finish();
+}
+
+fn bench_esprit_order(c: &mut Criterion) {
+    let mut group = c.benchmark_group("esprit_order");
+    group.sample_size(10);
+    for n in SIZES {
+        let data = record(n);
+        let est = Esprit::default();
+        group.bench_with_input(BenchmarkId::from_parameter(n), &data, |b, data| {
+            b.iter(|| black_box(est.estimate(data).expect("esprit with an estimated order")))
+        });
+    }
+    group.finish();
+}
+
+criterion_group!(
+    benches,
+    bench_esprit,
+    bench_pencil,
+    bench_music,
+    bench_esprit_order
+);
+criterion_main!(benches);
