@@ -1,0 +1,388 @@
+//! The shared numerical kernel: the data on a centred, normalised band, atom matrices, Gram sums, FFT
+//! grid evaluation of trigonometric polynomials and their derivatives at single points.
+//!
+//! **Centring.** A contiguous band `kmin..=kmax` is shifted to `k' = k − k_c` with `k_c` its centre, so
+//! that `|k'| ≤ L ≈ N/2`. The data do not change (`y_k` is stored at `k'`); amplitudes rotate,
+//! `a'_j = a_j exp(−i2πk_cτ_j)`, which leaves `|a_j|`, the TV norm, every residual and `|q(t)|`
+//! unchanged. Derivatives in `τ` then carry factors `|k'| ≤ L` instead of up to `N`, which keeps the
+//! Newton systems of the sliding step well scaled for one-sided bands (time samples, `k = −n`).
+//!
+//! **Normalisation.** Values are divided by `‖y‖₂`, so that every tolerance of the solver is relative.
+//!
+//! **Exponentials.** `exp(i2πkt)` for all measured `k` is computed by the recurrence
+//! `z_{k+1} = z_k · exp(i2πt)`, re-anchored on the exact value (phase `kt` reduced modulo 1,
+//! [`crate::model::atom`]) every [`ANCHOR`] terms and after every gap in `K`: the rounding error stays
+//! below about `ANCHOR · ε_mach`.
+
+use crate::dual::DualPolynomial;
+use crate::model::{atom, wrap, Measurements, Spike, Spikes};
+use faer::linalg::matmul::matmul_with_conj;
+use faer::{c64, Accum, Conj, Mat, Par};
+use num_complex::Complex64;
+use rustfft::{Fft, FftPlanner};
+use std::f64::consts::PI;
+use std::fmt;
+use std::sync::Arc;
+
+/// Re-anchoring period of the exponential recurrence.
+pub(crate) const ANCHOR: usize = 32;
+
+/// `exp(+i2πkt)`, with the phase reduced modulo 1 first.
+#[inline]
+pub(crate) fn cis(k: i64, t: f64) -> Complex64 {
+    atom(k, t).conj()
+}
+
+/// Measurements on the centred band, normalised to unit norm, with a planned FFT for grid evaluation.
+#[derive(Clone)]
+pub(crate) struct Model {
+    /// Centred measured indices `k' = k − k_c`, ascending.
+    pub ks: Vec<i64>,
+    /// The same indices as floating-point numbers.
+    pub kf: Vec<f64>,
+    /// Normalised values `y_k / ‖y‖` (all zero for zero data).
+    pub y: Vec<Complex64>,
+    /// `‖y‖₂` (1 for zero data, so that nothing divides by zero).
+    pub scale: f64,
+    /// Whether the data are identically zero.
+    pub zero_data: bool,
+    /// The band centre `k_c`.
+    pub centre: i64,
+    /// Original band `kmin..=kmax`.
+    pub kmin: i64,
+    /// Original band end.
+    pub kmax: i64,
+    /// `L = max |k'|` over the band: Bernstein's inequality bounds `‖q'‖∞ ≤ 2πL‖q‖∞`.
+    pub half_width: f64,
+    grid_len: usize,
+    fft: Arc<dyn Fft<f64>>,
+}
+
+impl fmt::Debug for Model {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.debug_struct("Model")
+            .field("measured", &self.ks.len())
+            .field("band", &(self.kmin, self.kmax))
+            .field("grid_len", &self.grid_len)
+            .finish()
+    }
+}
+
+impl Model {
+    /// Centre and normalise `data`; plan an inverse FFT of `next_pow2(oversample · N)` points
+    /// (`oversample` at least 8: the screening bound of [`super::certificate`] needs it).
+    pub fn new(data: &Measurements, oversample: usize) -> Self {
+        let kmin = data.kmin();
+        let kmax = data.kmax();
+        // kmax > kmin is guaranteed by Measurements; the floor keeps k_c inside the band.
+        let centre = kmin + (kmax - kmin) / 2;
+        let half_width = (centre - kmin).max(kmax - centre) as f64;
+        let ks: Vec<i64> = data.indices().iter().map(|&k| k - centre).collect();
+        let kf: Vec<f64> = ks.iter().map(|&k| k as f64).collect();
+        let norm = data.norm();
+        let zero_data = norm == 0.0;
+        let scale = if zero_data { 1.0 } else { norm };
+        let y: Vec<Complex64> = data.values().iter().map(|v| v / scale).collect();
+        let grid_len = (data.band_len() * oversample.max(8)).next_power_of_two();
+        let fft = FftPlanner::new().plan_fft_inverse(grid_len);
+        Model {
+            ks,
+            kf,
+            y,
+            scale,
+            zero_data,
+            centre,
+            kmin,
+            kmax,
+            half_width,
+            grid_len,
+            fft,
+        }
+    }
+
+    /// Number of measured coefficients `|K|`.
+    pub fn len(&self) -> usize {
+        self.ks.len()
+    }
+
+    /// Band length `N`.
+    pub fn band_len(&self) -> usize {
+        (self.kmax - self.kmin + 1) as usize
+    }
+
+    /// Fill `out[i] = exp(i2πk'_i t)` for every measured index (see the module docs for accuracy).
+    pub fn exp_column(&self, t: f64, out: &mut [Complex64]) {
+        let w = cis(1, t);
+        let mut z = Complex64::new(1.0, 0.0);
+        let mut prev = i64::MIN;
+        for (i, (&k, o)) in self.ks.iter().zip(out.iter_mut()).enumerate() {
+            if i % ANCHOR == 0 || prev.checked_add(1) != Some(k) {
+                z = cis(k, t);
+            } else {
+                z *= w;
+            }
+            *o = z;
+            prev = k;
+        }
+    }
+
+    /// The atom matrix `E_{kj} = exp(i2πk'τ_j)` (`|K| × s`); the forward operator is `Φ = conj(E)`.
+    pub fn atoms(&self, tau: &[f64]) -> Mat<c64> {
+        let m = self.len();
+        let mut e = Mat::<c64>::zeros(m, tau.len());
+        let mut col = vec![Complex64::new(0.0, 0.0); m];
+        for (j, &t) in tau.iter().enumerate() {
+            self.exp_column(t, &mut col);
+            for (i, v) in col.iter().enumerate() {
+                e[(i, j)] = *v;
+            }
+        }
+        e
+    }
+
+    /// Model values `(Φa)_k = Σ_j a_j exp(−i2πk'τ_j)` from the atom matrix.
+    pub fn forward(&self, e: &Mat<c64>, amp: &[Complex64]) -> Vec<Complex64> {
+        let m = self.len();
+        let mut out = vec![Complex64::new(0.0, 0.0); m];
+        for (j, a) in amp.iter().enumerate() {
+            for (i, o) in out.iter_mut().enumerate() {
+                *o += e[(i, j)].conj() * a;
+            }
+        }
+        out
+    }
+
+    /// Residual `y − Φa`.
+    pub fn residual(&self, e: &Mat<c64>, amp: &[Complex64]) -> Vec<Complex64> {
+        let model = self.forward(e, amp);
+        self.y.iter().zip(model).map(|(y, m)| y - m).collect()
+    }
+
+    /// `Σ_k w_k (i2πk')^p E_{kj}` for `p = 0, 1, 2` and every column `j`: the values and first two
+    /// derivatives of the polynomial `Σ_k w_k exp(i2πk't)` at the atoms' positions.
+    pub fn correlate(&self, e: &Mat<c64>, w: &[Complex64]) -> [Vec<Complex64>; 3] {
+        let s = e.ncols();
+        let mut out = [
+            vec![Complex64::new(0.0, 0.0); s],
+            vec![Complex64::new(0.0, 0.0); s],
+            vec![Complex64::new(0.0, 0.0); s],
+        ];
+        for j in 0..s {
+            let zero = Complex64::new(0.0, 0.0);
+            let (mut p0, mut p1, mut p2) = (zero, zero, zero);
+            for (i, (&k, wk)) in self.kf.iter().zip(w).enumerate() {
+                let t = wk * e[(i, j)];
+                p0 += t;
+                p1 += t * k;
+                p2 += t * (k * k);
+            }
+            let d = Complex64::new(0.0, 2.0 * PI);
+            out[0][j] = p0;
+            out[1][j] = d * p1;
+            out[2][j] = d * d * p2;
+        }
+        out
+    }
+
+    /// Gram-type sums `G_p = Eᴴ diag(k'^p) E` for `p = 0, 1, 2`: `(G_p)_{jl} = D_p(τ_l − τ_j)` with
+    /// `D_p(t) = Σ_{k∈K} k'^p exp(i2πk't)`.
+    pub fn grams(&self, e: &Mat<c64>) -> [Mat<c64>; 3] {
+        let (m, s) = (e.nrows(), e.ncols());
+        let weighted = |p: i32| Mat::<c64>::from_fn(m, s, |i, j| e[(i, j)] * self.kf[i].powi(p));
+        let product = |w: &Mat<c64>| {
+            let mut g = Mat::<c64>::zeros(s, s);
+            matmul_with_conj(
+                g.as_mut(),
+                Accum::Replace,
+                e.transpose(),
+                Conj::Yes,
+                w.as_ref(),
+                Conj::No,
+                c64::new(1.0, 0.0),
+                Par::Seq,
+            );
+            g
+        };
+        [product(e), product(&weighted(1)), product(&weighted(2))]
+    }
+
+    /// `(q(t), q'(t), q''(t))` for `q(t) = Σ_k c_k exp(i2πk't)`, by direct sums in `O(|K|)`.
+    pub fn eval(&self, c: &[Complex64], t: f64) -> [Complex64; 3] {
+        let w = cis(1, t);
+        let mut z = Complex64::new(1.0, 0.0);
+        let mut prev = i64::MIN;
+        let (mut q0, mut q1, mut q2) = (
+            Complex64::new(0.0, 0.0),
+            Complex64::new(0.0, 0.0),
+            Complex64::new(0.0, 0.0),
+        );
+        for (i, ((&k, &kf), ck)) in self.ks.iter().zip(&self.kf).zip(c).enumerate() {
+            if i % ANCHOR == 0 || prev.checked_add(1) != Some(k) {
+                z = cis(k, t);
+            } else {
+                z *= w;
+            }
+            prev = k;
+            let term = ck * z;
+            q0 += term;
+            q1 += term * kf;
+            q2 += term * (kf * kf);
+        }
+        let d = Complex64::new(0.0, 2.0 * PI);
+        [q0, d * q1, d * d * q2]
+    }
+
+    /// `q(j/M)` for `j = 0..M` (`M` the grid length) by one inverse FFT.
+    pub fn grid(&self, c: &[Complex64]) -> Vec<Complex64> {
+        let m = self.grid_len;
+        let mut buf = vec![Complex64::new(0.0, 0.0); m];
+        for (&k, &v) in self.ks.iter().zip(c) {
+            buf[k.rem_euclid(m as i64) as usize] += v;
+        }
+        // rustfft's inverse transform is the unnormalised sum Σ_k X_k exp(+i2πkj/M).
+        self.fft.process(&mut buf);
+        buf
+    }
+
+    /// The dual polynomial on the original band: `c_k` at `k = k' + k_c`, zero off `K`.
+    ///
+    /// `q(t) = Σ_k c_k exp(i2πkt) = exp(i2πk_c t) Σ_{k'} c_{k'} exp(i2πk't)`, so the modulus is the same.
+    pub fn dual_polynomial(&self, c: &[Complex64]) -> DualPolynomial {
+        let mut coeffs = vec![Complex64::new(0.0, 0.0); self.band_len()];
+        for (&k, &v) in self.ks.iter().zip(c) {
+            coeffs[(k + self.centre - self.kmin) as usize] = v;
+        }
+        DualPolynomial::new(self.kmin, coeffs)
+    }
+
+    /// Amplitude on the original band and scale: `a_j = ‖y‖ · a'_j · exp(i2πk_cτ_j)`.
+    pub fn to_original(&self, tau: f64, amp: Complex64) -> Complex64 {
+        amp * cis(self.centre, tau) * self.scale
+    }
+
+    /// Spikes on the original band and scale.
+    pub fn spikes(&self, tau: &[f64], amp: &[Complex64]) -> Spikes {
+        let list: Vec<Spike> = tau
+            .iter()
+            .zip(amp)
+            .map(|(&t, &a)| Spike::new(wrap(t), self.to_original(wrap(t), a)))
+            .collect();
+        // Positions and amplitudes are finite by construction (every step checks finiteness).
+        Spikes::new(list).unwrap_or_default()
+    }
+
+    /// Centred, normalised amplitude of a spike given on the original band and scale.
+    #[cfg(test)]
+    pub fn to_centred(&self, tau: f64, amp: Complex64) -> Complex64 {
+        amp * atom(self.centre, tau) / self.scale
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::{forward, Domain};
+
+    fn data(kmin: i64, kmax: i64, idx: &[i64]) -> (Measurements, Spikes) {
+        let truth = Spikes::from_parts(
+            &[0.11, 0.52, 0.83],
+            &[
+                Complex64::new(1.0, -0.4),
+                Complex64::new(-0.3, 0.7),
+                Complex64::new(0.2, 0.9),
+            ],
+        )
+        .unwrap();
+        let y = forward(&truth, idx);
+        (
+            Measurements::in_band(kmin, kmax, idx, &y, Domain::Fourier).unwrap(),
+            truth,
+        )
+    }
+
+    /// The recurrence against exact exponentials, including across gaps in K.
+    #[test]
+    fn exponential_recurrence_matches_direct_values() {
+        let idx: Vec<i64> = (-300..=300).filter(|k| k % 7 != 3).collect();
+        let (d, _) = data(-300, 300, &idx);
+        let model = Model::new(&d, 4);
+        let t = 0.123_456_789;
+        let mut col = vec![Complex64::new(0.0, 0.0); model.len()];
+        model.exp_column(t, &mut col);
+        for (&k, v) in model.ks.iter().zip(&col) {
+            // ANCHOR = 32 multiplications: error below 32·ε_mach·(a few), so 1e-13 is generous.
+            assert!((v - cis(k, t)).norm() < 1e-13, "k = {k}");
+        }
+    }
+
+    /// Centred residuals and spikes reproduce the original model exactly (one-sided band).
+    #[test]
+    fn centring_preserves_the_model() {
+        let idx: Vec<i64> = (-40..=0).collect();
+        let (d, truth) = data(-40, 0, &idx);
+        let model = Model::new(&d, 4);
+        let tau = truth.positions();
+        let amp: Vec<Complex64> = truth
+            .iter()
+            .map(|s| model.to_centred(s.position, s.amplitude))
+            .collect();
+        let e = model.atoms(&tau);
+        let r = model.residual(&e, &amp);
+        assert!(r.iter().map(|z| z.norm()).fold(0.0, f64::max) < 1e-14);
+        let back = model.spikes(&tau, &amp);
+        for (a, b) in back.iter().zip(truth.iter()) {
+            assert!((a.amplitude - b.amplitude).norm() < 1e-13);
+        }
+    }
+
+    /// Grid values, point evaluation and derivatives against the reference DualPolynomial.
+    #[test]
+    fn evaluation_matches_dual_polynomial_reference() {
+        let idx: Vec<i64> = (-17..=0).filter(|k| *k != -5).collect();
+        let (d, _) = data(-17, 0, &idx);
+        let model = Model::new(&d, 8);
+        let c: Vec<Complex64> = (0..model.len())
+            .map(|i| Complex64::new((i as f64 * 0.3).cos(), (i as f64 * 0.7).sin()) / 9.0)
+            .collect();
+        let reference = model.dual_polynomial(&c);
+        let grid = model.grid(&c);
+        let m = grid.len();
+        for (j, g) in grid.iter().enumerate().step_by(7) {
+            let t = j as f64 / m as f64;
+            // Modulus is frame independent; the values differ by the unit factor exp(i2πk_c t).
+            let direct = reference.eval(t) * cis(-model.centre, t);
+            assert!((direct - g).norm() < 1e-13);
+        }
+        let t = 0.3771;
+        let [q, q1, _] = model.eval(&c, t);
+        let shift = cis(-model.centre, t);
+        let (r0, r1, _) = reference.eval_derivatives(t);
+        assert!((r0 * shift - q).norm() < 1e-13);
+        // q_ref = exp(i2πk_c t) q  ⇒  q_ref' = exp(i2πk_c t)(q' + i2πk_c q).
+        let expected = (q1 + Complex64::new(0.0, 2.0 * PI * model.centre as f64) * q) / shift;
+        assert!((r1 - expected).norm() < 1e-11 * r1.norm().max(1.0));
+    }
+
+    /// Gram sums against direct double sums.
+    #[test]
+    fn grams_match_direct_sums() {
+        let idx: Vec<i64> = (-12..=12).filter(|k| k % 5 != 0).collect();
+        let (d, _) = data(-12, 12, &idx);
+        let model = Model::new(&d, 4);
+        let tau = [0.1, 0.47, 0.9];
+        let e = model.atoms(&tau);
+        let g = model.grams(&e);
+        for (p, gp) in g.iter().enumerate() {
+            for j in 0..3 {
+                for l in 0..3 {
+                    let direct: Complex64 = model
+                        .ks
+                        .iter()
+                        .map(|&k| cis(k, tau[l] - tau[j]) * (k as f64).powi(p as i32))
+                        .sum();
+                    assert!((gp[(j, l)] - direct).norm() < 1e-11, "p {p} ({j},{l})");
+                }
+            }
+        }
+    }
+}

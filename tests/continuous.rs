@@ -1,0 +1,456 @@
+//! The certified continuous solver (`sfw`, `finespike::continuous`) against the independent clarabel
+//! path (`sdp` / `ast`) on every case both can run: the reference cases of `tests/refdata` and seeded
+//! Scenario scenes (invented) with fc ≤ 24.
+//!
+//! Tolerances (why they are what they are):
+//! - objective to 1e-6 relative: clarabel stops at a relative gap of 1e-8 and reports the mean of its
+//!   primal and dual values; the SFW solution is certified to 1e-8 in `max|η|`, and the objective error
+//!   is of the order of the duality gap, so 1e-6 leaves two orders of margin for both;
+//! - positions to 1e-6/fc after the shared post-processing: both paths hand their support to the same
+//!   least-squares polish on the exact model, whose minimiser is determined by the support alone, so the
+//!   positions agree to the polish's rounding level (~1e-12/fc) once the supports match;
+//! - certificate: `max|q| ≤ 1 + 1e-6` (the SDP path's own warning level), checked independently by
+//!   direct sums on a 2^14-point grid (`DualPolynomial::eval`, the crate's brute-force reference).
+mod common;
+
+use common::{case_names, load_case, score};
+use finespike::continuous::{self, Problem, Sfw, SfwSettings};
+use finespike::{
+    wrap_distance, AmplitudeKind, Ast, Estimate, Estimator, Measurements, PostProcess, Scenario,
+    Status, Tv,
+};
+
+const OBJ_TOL: f64 = 1e-6;
+const POS_TOL_FC: f64 = 1e-6;
+
+/// `max |q|` by direct sums on a fine grid (independent of the FFT grid and Newton polish).
+fn fine_grid_max(q: &finespike::DualPolynomial) -> f64 {
+    let m = 1 << 14;
+    (0..m)
+        .map(|j| q.eval(j as f64 / m as f64).norm())
+        .fold(0.0, f64::max)
+}
+
+/// Same number of spikes, every position within `POS_TOL_FC / fc`.
+fn assert_same_positions(name: &str, a: &finespike::Spikes, b: &finespike::Spikes, fc: f64) {
+    assert_eq!(a.len(), b.len(), "{name}: {a:?} vs {b:?}");
+    for (x, y) in a.iter().zip(b.iter()) {
+        let d = wrap_distance(x.position, y.position) * fc;
+        assert!(d <= POS_TOL_FC, "{name}: positions differ by {d:e}/fc");
+    }
+}
+
+fn assert_objectives_agree(name: &str, ours: f64, theirs: f64) {
+    let rel = (ours - theirs).abs() / theirs.abs().max(f64::MIN_POSITIVE);
+    assert!(
+        rel <= OBJ_TOL,
+        "{name}: objective {ours} vs clarabel {theirs} (rel {rel:e})"
+    );
+}
+
+fn assert_certified(name: &str, est: &Estimate) {
+    assert_eq!(
+        est.status,
+        Status::Solved,
+        "{name}: {:?}",
+        est.diagnostics.warnings
+    );
+    let cert = est.diagnostics.certificate.unwrap();
+    assert!(cert.max_modulus <= 1.0 + 1e-6, "{name}: {cert:?}");
+    let fine = fine_grid_max(est.dual.as_ref().unwrap());
+    assert!(
+        fine <= 1.0 + 1e-6,
+        "{name}: max |q| on the fine grid {fine}"
+    );
+}
+
+/// Exact TV: `Sfw::exact()` against `Tv::exact()` (clarabel).
+fn compare_exact(name: &str, data: &Measurements) {
+    let ours = Sfw::exact().estimate(data).unwrap();
+    let theirs = Tv::exact().estimate(data).unwrap();
+    assert!(
+        theirs.status.is_usable(),
+        "{name}: clarabel {}",
+        theirs.status
+    );
+    assert_certified(name, &ours);
+    assert_objectives_agree(
+        name,
+        ours.diagnostics.objective.unwrap(),
+        theirs.diagnostics.objective.unwrap(),
+    );
+    assert_same_positions(name, &ours.spikes, &theirs.spikes, data.fc());
+    // Same certificate checks as the SDP path: both certificates bounded by 1, both attain 1 on the
+    // support (the SDP's after its polish moved the support by its own position error).
+    let c_ours = ours.diagnostics.certificate.unwrap();
+    assert!(
+        (c_ours.min_on_support - 1.0).abs() < 1e-9,
+        "{name}: {c_ours:?}"
+    );
+}
+
+/// Constrained TV: `Sfw::with_sigma` against `Tv::with_sigma` (clarabel).
+fn compare_constrained(name: &str, data: &Measurements, sigma: f64) {
+    let ours = Sfw::with_sigma(sigma).estimate(data).unwrap();
+    let theirs = Tv::with_sigma(sigma).estimate(data).unwrap();
+    assert!(
+        theirs.status.is_usable(),
+        "{name}: clarabel {}",
+        theirs.status
+    );
+    assert_certified(name, &ours);
+    assert_objectives_agree(
+        name,
+        ours.diagnostics.objective.unwrap(),
+        theirs.diagnostics.objective.unwrap(),
+    );
+    assert_same_positions(name, &ours.spikes, &theirs.spikes, data.fc());
+}
+
+/// AST: `continuous::solve(Penalised { λ = τ })` against `Ast::with_sigma` (clarabel), whose reported
+/// objective is `½‖y − x̂‖² + τ‖x̂‖_A` (offset included). Positions after the same post-processing.
+fn compare_ast(name: &str, data: &Measurements, sigma: f64) {
+    let ast = Ast::with_sigma(sigma);
+    let tau = ast.tau(sigma, data.len());
+    let theirs = ast.estimate(data).unwrap();
+    assert!(
+        theirs.status.is_usable(),
+        "{name}: clarabel {}",
+        theirs.status
+    );
+    let sol = continuous::solve(
+        data,
+        Problem::Penalised { lambda: tau },
+        &SfwSettings::default(),
+    )
+    .unwrap();
+    assert_eq!(sol.status, Status::Solved, "{name}");
+    assert!(
+        sol.certificate.max_modulus <= 1.0 + 1e-6,
+        "{name}: {:?}",
+        sol.certificate
+    );
+    assert!(fine_grid_max(&sol.dual) <= 1.0 + 1e-6, "{name}");
+    // Optimality on the support: |η(τ_j)| = 1 (Duval & Peyré 2015, Prop. 3).
+    assert!(
+        (sol.certificate.min_on_support - 1.0).abs() < 1e-8,
+        "{name}"
+    );
+    assert!(
+        sol.objective - sol.lower_bound <= 1e-8 * sol.objective,
+        "{name}: duality gap"
+    );
+    assert_objectives_agree(name, sol.objective, theirs.diagnostics.objective.unwrap());
+    let ours = PostProcess::default()
+        .apply(data, &sol.spikes.positions(), Some(sigma))
+        .unwrap();
+    assert_same_positions(name, &ours, &theirs.spikes, data.fc());
+}
+
+/// Noiseless reference cases at or above 1.26/fc, subsampled and time-domain cases.
+#[test]
+fn exact_reference_cases_agree_with_clarabel() {
+    let names: Vec<String> = case_names("nl_")
+        .into_iter()
+        .filter(|n| !(n.contains("s0p80") || n.contains("s1p00")))
+        .chain(case_names("ss_"))
+        .chain(case_names("td_").into_iter().filter(|n| !n.contains("snr")))
+        .collect();
+    assert_eq!(names.len(), 23);
+    for name in names {
+        let c = load_case(&name);
+        compare_exact(&name, &c.data);
+        // The truth is recovered (exact recovery theorem regime; reference: cvxpy + SCS ≤ 2e-7/fc).
+        let est = Sfw::exact().estimate(&c.data).unwrap();
+        let s = score(&est.spikes, &c.truth.spikes, c.data.fc());
+        assert_eq!((s.found, s.spurious), (c.truth.spikes.len(), 0), "{name}");
+        assert!(s.max_pos_err_fc < 1e-9, "{name}: {s:?}");
+    }
+}
+
+/// Noisy reference cases with fc ≤ 16 (SNR ≥ 20 dB, where the SDP path is tested too): constrained TV
+/// and AST. (fc = 32 costs clarabel 4 s per solve; those cases are checked against the CRB below.)
+#[test]
+fn noisy_reference_cases_agree_with_clarabel() {
+    for name in case_names("nz_")
+        .into_iter()
+        .filter(|n| !n.contains("snr10") && !n.contains("fc32"))
+        .chain(case_names("td_").into_iter().filter(|n| n.contains("snr")))
+    {
+        let c = load_case(&name);
+        let sigma = c.truth.sigma.unwrap();
+        compare_constrained(&name, &c.data, sigma);
+        compare_ast(&name, &c.data, sigma);
+    }
+}
+
+/// Per-spike position standard deviations from the reference CRB files (numpy, Fisher information of
+/// the exact model: Stoica & Nehorai 1989, IEEE TASSP 37(5)).
+fn crb_std(name: &str) -> Vec<(f64, f64)> {
+    let path = common::refdata()
+        .join("crb")
+        .join(format!("{name}.crb.json"));
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+    v["spikes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| {
+            (
+                s["position"].as_f64().unwrap(),
+                s["std_position"].as_f64().unwrap(),
+            )
+        })
+        .collect()
+}
+
+/// Every noisy reference case at SNR ≥ 20 dB: nothing missed or spurious, every position within 4 CRB
+/// standard deviations (one draw: 4σ is exceeded with probability 6e-5 per spike), certified.
+#[test]
+fn noisy_reference_cases_within_four_crb_deviations() {
+    for name in case_names("nz_")
+        .into_iter()
+        .filter(|n| !n.contains("snr10"))
+    {
+        let c = load_case(&name);
+        let sigma = c.truth.sigma.unwrap();
+        let est = Sfw::with_sigma(sigma).estimate(&c.data).unwrap();
+        assert_certified(&name, &est);
+        let s = score(&est.spikes, &c.truth.spikes, c.data.fc());
+        assert_eq!(
+            (s.found, s.spurious),
+            (c.truth.spikes.len(), 0),
+            "{name}: {s:?}"
+        );
+        for (pos, std) in crb_std(&name) {
+            let nearest = est
+                .spikes
+                .iter()
+                .map(|x| wrap_distance(x.position, pos))
+                .fold(f64::INFINITY, f64::min);
+            assert!(
+                nearest <= 4.0 * std,
+                "{name}: error {nearest:e} vs CRB std {std:e}"
+            );
+        }
+    }
+}
+
+/// Seeded Scenario scenes at fc ∈ {8, 16, 24}: exact, noisy (constrained and AST) and subsampled.
+#[test]
+fn scenario_scenes_agree_with_clarabel() {
+    for (i, fc) in [8usize, 16, 24].into_iter().enumerate() {
+        let count = fc / 4;
+        let seed = 100 + i as u64;
+        let exact = Scenario::new(fc, count)
+            .with_separation(1.5)
+            .with_seed(seed)
+            .generate()
+            .unwrap();
+        compare_exact(&format!("exact fc {fc}"), &exact.data);
+        let positive = Scenario::new(fc, count)
+            .with_separation(1.26)
+            .with_amplitudes(AmplitudeKind::RealPositive)
+            .with_seed(seed)
+            .generate()
+            .unwrap();
+        compare_exact(&format!("positive fc {fc}"), &positive.data);
+        let sub = Scenario::new(fc, count.max(2) - 1)
+            .with_separation(2.5)
+            .with_subset_fraction(0.7)
+            .with_seed(seed)
+            .generate()
+            .unwrap();
+        compare_exact(&format!("subsampled fc {fc}"), &sub.data);
+        let noisy = Scenario::new(fc, count)
+            .with_separation(2.0)
+            .with_snr_db(25.0)
+            .with_seed(seed)
+            .generate()
+            .unwrap();
+        compare_constrained(&format!("noisy fc {fc}"), &noisy.data, noisy.sigma);
+        compare_ast(&format!("noisy fc {fc}"), &noisy.data, noisy.sigma);
+    }
+}
+
+/// Past the interior point's reach: fc = 200 (N = 401), exact and noisy, certified.
+#[test]
+fn larger_problems_are_certified() {
+    let sample = Scenario::new(200, 12)
+        .with_separation(1.5)
+        .with_seed(9)
+        .generate()
+        .unwrap();
+    let est = Sfw::exact().estimate(&sample.data).unwrap();
+    assert_certified("fc 200 exact", &est);
+    let s = score(&est.spikes, &sample.truth, 200.0);
+    assert_eq!((s.found, s.spurious), (12, 0));
+    assert!(s.max_pos_err_fc < 1e-9, "{s:?}");
+    let noisy = Scenario::new(200, 12)
+        .with_separation(2.0)
+        .with_snr_db(20.0)
+        .with_seed(9)
+        .generate()
+        .unwrap();
+    let est = Sfw::with_sigma(noisy.sigma).estimate(&noisy.data).unwrap();
+    assert_certified("fc 200 noisy", &est);
+    let s = score(&est.spikes, &noisy.truth, 200.0);
+    assert_eq!((s.found, s.spurious), (12, 0));
+}
+
+/// An even-length time record (N = 256, band −255..=0, one-sided): lines are recovered and certified.
+#[test]
+fn even_length_time_record_is_certified() {
+    let truth = finespike::Spikes::from_parts(
+        &[0.05, 0.21, 0.2165, 0.6, 0.93],
+        &[
+            num_complex::Complex64::new(1.0, 0.5),
+            num_complex::Complex64::new(-0.7, 0.2),
+            num_complex::Complex64::new(0.3, -0.9),
+            num_complex::Complex64::new(0.0, 1.2),
+            num_complex::Complex64::new(-0.5, -0.5),
+        ],
+    )
+    .unwrap();
+    let x: Vec<num_complex::Complex64> = (0..256)
+        .map(|n| {
+            truth
+                .iter()
+                .map(|s| {
+                    s.amplitude
+                        * num_complex::Complex64::from_polar(
+                            1.0,
+                            2.0 * std::f64::consts::PI * s.position * n as f64,
+                        )
+                })
+                .sum()
+        })
+        .collect();
+    let data = Measurements::from_time_samples(&x).unwrap();
+    let est = Sfw::exact().estimate(&data).unwrap();
+    assert_certified("time record", &est);
+    let s = score(&est.spikes, &truth, data.fc());
+    assert_eq!((s.found, s.spurious), (5, 0));
+    assert!(s.max_pos_err_fc < 1e-9, "{s:?}");
+    assert!(s.max_rel_amp_err < 1e-9, "{s:?}");
+}
+
+/// With the noise level estimated from the data (`crate::noise`), noisy data are solved as the
+/// constrained problem and exact data are detected as exact.
+#[test]
+fn estimated_noise_level() {
+    let c = load_case("nz_fc16_snr30");
+    let est = Sfw::default().estimate(&c.data).unwrap();
+    assert!(est.diagnostics.sigma_estimated);
+    assert!(est.diagnostics.sigma.is_some());
+    assert_certified("nz_fc16_snr30", &est);
+    let s = score(&est.spikes, &c.truth.spikes, c.data.fc());
+    assert_eq!((s.found, s.spurious), (c.truth.spikes.len(), 0), "{s:?}");
+    let c = load_case("nl_fc16_s2p00_cx");
+    let est = Sfw::default().estimate(&c.data).unwrap();
+    assert_eq!(est.diagnostics.sigma, None);
+    assert_certified("nl_fc16_s2p00_cx", &est);
+}
+
+/// An early stop is never reported as solved.
+#[test]
+fn iteration_limit_is_reported_honestly() {
+    let sample = Scenario::new(16, 4)
+        .with_separation(1.5)
+        .with_seed(1)
+        .generate()
+        .unwrap();
+    let settings = SfwSettings::default().with_max_iter(2).unwrap();
+    let est = Sfw::exact()
+        .with_settings(settings)
+        .estimate(&sample.data)
+        .unwrap();
+    assert_eq!(est.status, Status::IterationLimit);
+    assert!(!est.status.is_usable());
+    let sol =
+        continuous::solve(&sample.data, Problem::Penalised { lambda: 0.1 }, &settings).unwrap();
+    assert_ne!(sol.status, Status::Solved);
+}
+
+/// Zero data: μ = 0 is optimal and certified for every problem.
+#[test]
+fn zero_data_give_the_zero_measure() {
+    let data = Measurements::full_band(6, &[num_complex::Complex64::new(0.0, 0.0); 13]).unwrap();
+    for problem in [
+        Problem::Exact,
+        Problem::Constrained { delta: 0.1 },
+        Problem::Penalised { lambda: 0.1 },
+    ] {
+        let sol = continuous::solve(&data, problem, &SfwSettings::default()).unwrap();
+        assert_eq!(sol.status, Status::Solved);
+        assert!(sol.spikes.is_empty());
+        assert_eq!(sol.objective, 0.0);
+    }
+}
+
+/// Bad input is a typed error.
+#[test]
+fn invalid_settings_and_problems_are_errors() {
+    let s = SfwSettings::default();
+    assert!(s.with_max_iter(0).is_err());
+    assert!(s.with_tolerance(0.0).is_err());
+    assert!(s.with_tolerance(f64::NAN).is_err());
+    assert!(s.with_grid_oversample(4).is_err());
+    assert!(s.with_time_limit(-1.0).is_err());
+    assert!(s.with_weak_margin(0.7).is_err());
+    let data = Scenario::new(4, 1).generate().unwrap().data;
+    for bad in [
+        Problem::Constrained { delta: -1.0 },
+        Problem::Constrained { delta: f64::NAN },
+        Problem::Penalised { lambda: 0.0 },
+        Problem::Penalised {
+            lambda: f64::INFINITY,
+        },
+    ] {
+        assert!(matches!(
+            continuous::solve(&data, bad, &s),
+            Err(finespike::Error::InvalidSetting { .. })
+        ));
+    }
+    assert!(Sfw::with_sigma(-1.0).estimate(&data).is_err());
+    assert_eq!(Sfw::exact().name(), "sfw");
+}
+
+/// Below the Rayleigh limit (0.3/fc and 0.6/fc, 3 spikes at fc = 8; invented scenes) the exact problem
+/// can be degenerate: the TV minimiser need not be the truth, and the pre-certificate can fail. The
+/// solver must then be honest: `Solved` only with a certificate bounded by 1 and an objective equal to
+/// clarabel's; otherwise a status that is not `Solved` and a warning. In every case the reported lower
+/// bound is a true lower bound (weak duality): it never exceeds clarabel's optimal value.
+#[test]
+fn degenerate_scenes_are_reported_honestly() {
+    let mut solved = 0;
+    for seed in 0..6u64 {
+        for sep in [0.3, 0.6] {
+            let name = format!("seed {seed} sep {sep}");
+            let s = Scenario::new(8, 3)
+                .with_separation(sep)
+                .with_seed(seed)
+                .generate()
+                .unwrap();
+            let theirs = Tv::exact().estimate(&s.data).unwrap();
+            let optimum = theirs.diagnostics.objective.unwrap();
+            let sol = continuous::solve(&s.data, Problem::Exact, &SfwSettings::default()).unwrap();
+            assert!(
+                sol.lower_bound <= optimum * (1.0 + OBJ_TOL),
+                "{name}: {} > {optimum}",
+                sol.lower_bound
+            );
+            let ours = Sfw::exact().estimate(&s.data).unwrap();
+            if ours.status == Status::Solved {
+                solved += 1;
+                assert_certified(&name, &ours);
+                assert_objectives_agree(&name, ours.diagnostics.objective.unwrap(), optimum);
+            } else {
+                assert!(!ours.diagnostics.warnings.is_empty(), "{name}");
+            }
+        }
+    }
+    // Most of these are certified (non-degenerate despite the small separation).
+    assert!(solved >= 8, "only {solved} of 12 certified");
+}
