@@ -212,7 +212,7 @@ impl Estimator for Greedy {
             (Some(_), NoiseLevel::Estimate) => (None, false),
             (_, noise) => resolve_sigma(data, noise)?,
         };
-        let model = Model::new(data, self.settings.grid_oversample.max(8));
+        let model = Model::new(data, self.settings.grid_oversample.max(8))?;
         let m = model.len() as f64;
         // Stopping level of ‖r‖ in normalised units.
         let target = match sigma {
@@ -273,7 +273,7 @@ impl Estimator for Greedy {
         for t in &mut point.tau {
             *t = wrap(*t);
         }
-        let spikes = model.spikes(&point.tau, &point.amp);
+        let spikes = model.spikes(&point.tau, &point.amp)?;
         let spikes = refine(data, &spikes, self.settings.refine)?.spikes;
         let status = match stop {
             Stop::Rule => Status::Solved,

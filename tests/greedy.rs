@@ -178,5 +178,17 @@ fn invalid_settings_are_errors() {
     assert!(s.with_merge_distance_fc(0.9).is_err());
     let data = Scenario::new(4, 1).generate().unwrap().data;
     assert!(Greedy::with_sigma(f64::NAN).estimate(&data).is_err());
+    let wide = finespike::Measurements::in_band(
+        -(1i64 << 40),
+        0,
+        &[0, -7, -(1i64 << 39)],
+        &[num_complex::Complex64::new(1.0, 0.0); 3],
+        Domain::Time,
+    )
+    .unwrap();
+    assert!(matches!(
+        Greedy::exact().estimate(&wide),
+        Err(finespike::Error::Unsupported { .. })
+    ));
     assert_eq!(Greedy::exact().name(), "greedy");
 }

@@ -41,8 +41,13 @@ pub(crate) struct Scan {
     pub max_modulus: f64,
     /// The largest local maximum more than `0.25/N` from every support point.
     pub best_off: Option<Peak>,
+    /// The largest polished local maximum anywhere (it may sit next to a support point).
+    pub best_any: Option<Peak>,
     /// `q(τ_j)` at the support points, in their order.
     pub on_support: Vec<Complex64>,
+    /// Every off-support local maximum with `|q| ≥` the level asked for ([`scan_above`]), polished,
+    /// largest first.
+    pub peaks_off: Vec<Peak>,
 }
 
 impl Scan {
@@ -131,6 +136,11 @@ fn near(sorted: &[f64], t: f64, tol: f64) -> bool {
 /// Scan `|q|` for `q(t) = Σ_{k'} c_k exp(i2πk't)` (centred coefficients on `K`) against `support`
 /// (see the module docs).
 pub(crate) fn scan(model: &Model, c: &[Complex64], support: &[f64]) -> Scan {
+    scan_above(model, c, support, f64::INFINITY)
+}
+
+/// [`scan`], also collecting every off-support local maximum with `|q| ≥ level`.
+pub(crate) fn scan_above(model: &Model, c: &[Complex64], support: &[f64], level: f64) -> Scan {
     let on_support: Vec<Complex64> = support.iter().map(|&t| model.eval(c, t)[0]).collect();
     let vals = model.grid(c);
     let m = vals.len();
@@ -157,22 +167,44 @@ pub(crate) fn scan(model: &Model, c: &[Complex64], support: &[f64]) -> Scan {
     let tol = 0.25 / model.band_len() as f64;
     let mut max_modulus = on_support.iter().map(|v| v.norm()).fold(0.0, f64::max);
     let mut best_off: Option<Peak> = None;
+    let mut best_any: Option<Peak> = None;
+    let mut peaks_off: Vec<Peak> = Vec::new();
+    let level_sq = if level.is_finite() {
+        level * level
+    } else {
+        f64::INFINITY
+    };
     for &(gj, j) in &cands {
         let off_floor = best_off.map_or(f64::NEG_INFINITY, |p| p.modulus * p.modulus);
         let any_floor = max_modulus * max_modulus;
-        if gj + slack < off_floor.min(any_floor) {
+        if gj + slack < off_floor.min(any_floor).min(level_sq) {
             break;
         }
         let p = polish(model, c, j as f64 * h, h);
         max_modulus = max_modulus.max(p.modulus);
-        if !near(&sorted, p.position, tol) && best_off.is_none_or(|b| p.modulus > b.modulus) {
+        if best_any.is_none_or(|b: Peak| p.modulus > b.modulus) {
+            best_any = Some(p);
+        }
+        if near(&sorted, p.position, tol) {
+            continue;
+        }
+        if best_off.is_none_or(|b| p.modulus > b.modulus) {
             best_off = Some(p);
         }
+        let duplicate = peaks_off
+            .iter()
+            .any(|q| wrap_distance(q.position, p.position) < tol);
+        if p.modulus >= level && !duplicate {
+            peaks_off.push(p);
+        }
     }
+    peaks_off.sort_by(|a, b| b.modulus.total_cmp(&a.modulus));
     Scan {
         max_modulus,
         best_off,
+        best_any,
         on_support,
+        peaks_off,
     }
 }
 
@@ -303,7 +335,7 @@ mod tests {
         let idx: Vec<i64> = (-fc..=fc).collect();
         let y = vec![Complex64::new(1.0, 0.0); idx.len()];
         let d = Measurements::in_band(-fc, fc, &idx, &y, Domain::Fourier).unwrap();
-        Model::new(&d, 16)
+        Model::new(&d, 16).unwrap()
     }
 
     /// The scan agrees with the reference certificate of DualPolynomial (which polishes every grid

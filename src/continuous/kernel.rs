@@ -15,14 +15,18 @@
 //! below about `ANCHOR · ε_mach`.
 
 use crate::dual::DualPolynomial;
+use crate::error::{Error, Result};
 use crate::model::{atom, wrap, Measurements, Spike, Spikes};
 use faer::linalg::matmul::matmul_with_conj;
-use faer::{c64, Accum, Conj, Mat, Par};
+use faer::{c64, Accum, Conj, Mat, MatRef, Par};
 use num_complex::Complex64;
 use rustfft::{Fft, FftPlanner};
 use std::f64::consts::PI;
 use std::fmt;
 use std::sync::Arc;
+
+/// Largest FFT grid (points) a model may plan: 2^26 complex values, 1 GiB.
+pub(crate) const MAX_GRID: usize = 1 << 26;
 
 /// Re-anchoring period of the exponential recurrence.
 pub(crate) const ANCHOR: usize = 32;
@@ -71,7 +75,11 @@ impl fmt::Debug for Model {
 impl Model {
     /// Centre and normalise `data`; plan an inverse FFT of `next_pow2(oversample · N)` points
     /// (`oversample` at least 8: the screening bound of [`super::certificate`] needs it).
-    pub fn new(data: &Measurements, oversample: usize) -> Self {
+    ///
+    /// # Errors
+    /// [`Error::Unsupported`] when the grid would exceed [`MAX_GRID`] points (a band so long that its
+    /// FFT grid would not fit in memory).
+    pub fn new(data: &Measurements, oversample: usize) -> Result<Self> {
         let kmin = data.kmin();
         let kmax = data.kmax();
         // kmax > kmin is guaranteed by Measurements; the floor keeps k_c inside the band.
@@ -83,9 +91,21 @@ impl Model {
         let zero_data = norm == 0.0;
         let scale = if zero_data { 1.0 } else { norm };
         let y: Vec<Complex64> = data.values().iter().map(|v| v / scale).collect();
-        let grid_len = (data.band_len() * oversample.max(8)).next_power_of_two();
+        let grid_len = data
+            .band_len()
+            .checked_mul(oversample.max(8))
+            .filter(|&g| g <= MAX_GRID)
+            .ok_or_else(|| Error::Unsupported {
+                method: "continuous solver".into(),
+                reason: format!(
+                    "a band of {} coefficients needs an FFT grid above {MAX_GRID} points; \
+                     split the record or lower grid_oversample",
+                    data.band_len()
+                ),
+            })?
+            .next_power_of_two();
         let fft = FftPlanner::new().plan_fft_inverse(grid_len);
-        Model {
+        Ok(Model {
             ks,
             kf,
             y,
@@ -97,7 +117,7 @@ impl Model {
             half_width,
             grid_len,
             fft,
-        }
+        })
     }
 
     /// Number of measured coefficients `|K|`.
@@ -184,26 +204,34 @@ impl Model {
         out
     }
 
-    /// Gram-type sums `G_p = Eᴴ diag(k'^p) E` for `p = 0, 1, 2`: `(G_p)_{jl} = D_p(τ_l − τ_j)` with
-    /// `D_p(t) = Σ_{k∈K} k'^p exp(i2πk't)`.
-    pub fn grams(&self, e: &Mat<c64>) -> [Mat<c64>; 3] {
+    /// Gram-type sums `G_p = Eᴴ diag(k'^p) E` for `p = 0, …, orders − 1` (`orders` ≤ 3):
+    /// `(G_p)_{jl} = D_p(τ_l − τ_j)` with `D_p(t) = Σ_{k∈K} k'^p exp(i2πk't)`.
+    pub fn grams(&self, e: &Mat<c64>, orders: usize) -> Vec<Mat<c64>> {
         let (m, s) = (e.nrows(), e.ncols());
-        let weighted = |p: i32| Mat::<c64>::from_fn(m, s, |i, j| e[(i, j)] * self.kf[i].powi(p));
-        let product = |w: &Mat<c64>| {
+        let product = |w: MatRef<'_, c64>| {
             let mut g = Mat::<c64>::zeros(s, s);
             matmul_with_conj(
                 g.as_mut(),
                 Accum::Replace,
                 e.transpose(),
                 Conj::Yes,
-                w.as_ref(),
+                w,
                 Conj::No,
                 c64::new(1.0, 0.0),
                 Par::Seq,
             );
             g
         };
-        [product(e), product(&weighted(1)), product(&weighted(2))]
+        (0..orders.min(3))
+            .map(|p| match p {
+                0 => product(e.as_ref()),
+                1 => product(Mat::<c64>::from_fn(m, s, |i, j| e[(i, j)] * self.kf[i]).as_ref()),
+                _ => product(
+                    Mat::<c64>::from_fn(m, s, |i, j| e[(i, j)] * (self.kf[i] * self.kf[i]))
+                        .as_ref(),
+                ),
+            })
+            .collect()
     }
 
     /// `(q(t), q'(t), q''(t))` for `q(t) = Σ_k c_k exp(i2πk't)`, by direct sums in `O(|K|)`.
@@ -261,14 +289,16 @@ impl Model {
     }
 
     /// Spikes on the original band and scale.
-    pub fn spikes(&self, tau: &[f64], amp: &[Complex64]) -> Spikes {
+    ///
+    /// # Errors
+    /// [`Error::NonFinite`] if a position or amplitude is not finite.
+    pub fn spikes(&self, tau: &[f64], amp: &[Complex64]) -> Result<Spikes> {
         let list: Vec<Spike> = tau
             .iter()
             .zip(amp)
             .map(|(&t, &a)| Spike::new(wrap(t), self.to_original(wrap(t), a)))
             .collect();
-        // Positions and amplitudes are finite by construction (every step checks finiteness).
-        Spikes::new(list).unwrap_or_default()
+        Spikes::new(list)
     }
 
     /// Centred, normalised amplitude of a spike given on the original band and scale.
@@ -305,7 +335,7 @@ mod tests {
     fn exponential_recurrence_matches_direct_values() {
         let idx: Vec<i64> = (-300..=300).filter(|k| k % 7 != 3).collect();
         let (d, _) = data(-300, 300, &idx);
-        let model = Model::new(&d, 4);
+        let model = Model::new(&d, 4).unwrap();
         let t = 0.123_456_789;
         let mut col = vec![Complex64::new(0.0, 0.0); model.len()];
         model.exp_column(t, &mut col);
@@ -320,7 +350,7 @@ mod tests {
     fn centring_preserves_the_model() {
         let idx: Vec<i64> = (-40..=0).collect();
         let (d, truth) = data(-40, 0, &idx);
-        let model = Model::new(&d, 4);
+        let model = Model::new(&d, 4).unwrap();
         let tau = truth.positions();
         let amp: Vec<Complex64> = truth
             .iter()
@@ -329,7 +359,7 @@ mod tests {
         let e = model.atoms(&tau);
         let r = model.residual(&e, &amp);
         assert!(r.iter().map(|z| z.norm()).fold(0.0, f64::max) < 1e-14);
-        let back = model.spikes(&tau, &amp);
+        let back = model.spikes(&tau, &amp).unwrap();
         for (a, b) in back.iter().zip(truth.iter()) {
             assert!((a.amplitude - b.amplitude).norm() < 1e-13);
         }
@@ -340,7 +370,7 @@ mod tests {
     fn evaluation_matches_dual_polynomial_reference() {
         let idx: Vec<i64> = (-17..=0).filter(|k| *k != -5).collect();
         let (d, _) = data(-17, 0, &idx);
-        let model = Model::new(&d, 8);
+        let model = Model::new(&d, 8).unwrap();
         let c: Vec<Complex64> = (0..model.len())
             .map(|i| Complex64::new((i as f64 * 0.3).cos(), (i as f64 * 0.7).sin()) / 9.0)
             .collect();
@@ -368,10 +398,10 @@ mod tests {
     fn grams_match_direct_sums() {
         let idx: Vec<i64> = (-12..=12).filter(|k| k % 5 != 0).collect();
         let (d, _) = data(-12, 12, &idx);
-        let model = Model::new(&d, 4);
+        let model = Model::new(&d, 4).unwrap();
         let tau = [0.1, 0.47, 0.9];
         let e = model.atoms(&tau);
-        let g = model.grams(&e);
+        let g = model.grams(&e, 3);
         for (p, gp) in g.iter().enumerate() {
             for j in 0..3 {
                 for l in 0..3 {

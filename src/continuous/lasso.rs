@@ -70,7 +70,7 @@ pub(crate) fn lasso(model: &Model, point: &mut Point, lambda: f64) -> bool {
     let e = model.atoms(&point.tau);
     // b_j = Σ_k y_k exp(i2πkτ_j) and G_{jl} = D_0(τ_j − τ_l) = conj((EᴴE)_{jl}).
     let [b, _, _] = model.correlate(&e, &model.y);
-    let g = model.grams(&e);
+    let g = model.grams(&e, 1);
     let gram = |j: usize, l: usize| g[0][(j, l)].conj();
     let diag = model.len() as f64;
     for _round in 0..8 {
@@ -155,7 +155,7 @@ mod tests {
         let idx: Vec<i64> = (-8..=8).collect();
         let d =
             Measurements::in_band(-8, 8, &idx, &forward(&truth, &idx), Domain::Fourier).unwrap();
-        Model::new(&d, 8)
+        Model::new(&d, 8).unwrap()
     }
 
     /// A single atom: the LASSO solution is the soft-thresholded correlation, `S_λ(b)/|K|`.

@@ -126,14 +126,15 @@ pub(crate) fn objective(model: &Model, point: &Point, lambda: f64) -> f64 {
     0.5 * r.iter().map(|z| z.norm_sqr()).sum::<f64>() + lambda * point.l1()
 }
 
-/// Objective, gradient and exact Hessian at `point` (see the module docs for the formulas).
-pub(crate) fn local(model: &Model, point: &Point, lambda: f64) -> Local {
+/// Objective, gradient and exact Hessian at `point` (see the module docs for the formulas). With
+/// `positions` false only the amplitude entries are filled (the others are zero).
+pub(crate) fn local(model: &Model, point: &Point, lambda: f64, positions: bool) -> Local {
     let s = point.len();
     let e = model.atoms(&point.tau);
     let r = model.residual(&e, &point.amp);
     let f = 0.5 * r.iter().map(|z| z.norm_sqr()).sum::<f64>() + lambda * point.l1();
     let [p0, p1, p2] = model.correlate(&e, &r);
-    let g = model.grams(&e);
+    let g = model.grams(&e, if positions { 3 } else { 1 });
     let a = &point.amp;
     let n = 3 * s;
     let mut grad = vec![0.0; n];
@@ -147,12 +148,18 @@ pub(crate) fn local(model: &Model, point: &Point, lambda: f64) -> Local {
         } else {
             Complex64::new(0.0, 0.0)
         };
-        grad[j] = -(a[j] * p1[j].conj()).re;
         grad[s + j] = -p0[j].re + lambda * unit.re;
         grad[2 * s + j] = -p0[j].im + lambda * unit.im;
         for l in 0..s {
             // D_p(τ_j − τ_l) = conj((G_p)_{jl}).
             let d0 = g[0][(j, l)].conj();
+            hess[(s + j, s + l)] += d0.re;
+            hess[(s + j, 2 * s + l)] += -d0.im;
+            hess[(2 * s + j, s + l)] += d0.im;
+            hess[(2 * s + j, 2 * s + l)] += d0.re;
+            if !positions {
+                continue;
+            }
             let d1 = g[1][(j, l)].conj();
             let d2 = g[2][(j, l)].conj();
             hess[(j, l)] += two_pi * two_pi * (a[j].conj() * a[l] * d2).re;
@@ -162,17 +169,16 @@ pub(crate) fn local(model: &Model, point: &Point, lambda: f64) -> Local {
             hess[(s + l, j)] += ta;
             hess[(j, 2 * s + l)] += tb;
             hess[(2 * s + l, j)] += tb;
-            hess[(s + j, s + l)] += d0.re;
-            hess[(s + j, 2 * s + l)] += -d0.im;
-            hess[(2 * s + j, s + l)] += d0.im;
-            hess[(2 * s + j, 2 * s + l)] += d0.re;
         }
-        // Residual (second-order) terms, diagonal blocks only.
-        hess[(j, j)] += -(a[j] * p2[j].conj()).re;
-        hess[(j, s + j)] += -p1[j].re;
-        hess[(s + j, j)] += -p1[j].re;
-        hess[(j, 2 * s + j)] += -p1[j].im;
-        hess[(2 * s + j, j)] += -p1[j].im;
+        if positions {
+            grad[j] = -(a[j] * p1[j].conj()).re;
+            // Residual (second-order) terms, diagonal blocks only.
+            hess[(j, j)] += -(a[j] * p2[j].conj()).re;
+            hess[(j, s + j)] += -p1[j].re;
+            hess[(s + j, j)] += -p1[j].re;
+            hess[(j, 2 * s + j)] += -p1[j].im;
+            hess[(2 * s + j, j)] += -p1[j].im;
+        }
         // Curvature of λ|a|: (λ/|a|)(I − â âᵀ).
         if modulus > 0.0 && lambda > 0.0 {
             let c = lambda / modulus;
@@ -184,8 +190,10 @@ pub(crate) fn local(model: &Model, point: &Point, lambda: f64) -> Local {
     }
     let m = model.len() as f64;
     let mut scale = vec![m; n];
-    for j in 0..s {
-        scale[j] = (two_pi * two_pi * a[j].norm_sqr() * g[2][(j, j)].re).max(1e-300);
+    if positions {
+        for j in 0..s {
+            scale[j] = (two_pi * two_pi * a[j].norm_sqr() * g[2][(j, j)].re).max(1e-300);
+        }
     }
     Local {
         f,
@@ -229,7 +237,8 @@ pub(crate) fn slide(
     let mut mu = 1e-8;
     let mut nu = 2.0;
     let mut steps = 0;
-    let mut cur = local(model, point, lambda);
+    let positions = !freeze_positions;
+    let mut cur = local(model, point, lambda, positions);
     let mut converged = false;
     'outer: while steps < max_steps {
         let g: Vec<f64> = vars.iter().map(|&v| cur.grad[v]).collect();
@@ -289,7 +298,7 @@ pub(crate) fn slide(
                     }
                 });
                 *point = trial;
-                cur = local(model, point, lambda);
+                cur = local(model, point, lambda, positions);
                 steps += 1;
                 accepted = true;
                 if small {
@@ -302,7 +311,7 @@ pub(crate) fn slide(
                 // The decrease is below the rounding level of f, so f cannot judge the step: accept a
                 // Newton step that halves the scaled gradient (quadratic convergence region), and
                 // stop when none does.
-                let trial_local = local(model, &trial, lambda);
+                let trial_local = local(model, &trial, lambda, positions);
                 let gnorm = |l: &Local| -> f64 {
                     vars.iter()
                         .map(|&v| l.grad[v] * l.grad[v] / l.scale[v])
@@ -350,7 +359,7 @@ mod tests {
             *v += Complex64::new((i as f64 * 1.7).sin(), (i as f64 * 2.3).cos()) * noise;
         }
         let d = Measurements::in_band(-10, 10, &idx, &y, Domain::Fourier).unwrap();
-        Model::new(&d, 8)
+        Model::new(&d, 8).unwrap()
     }
 
     fn point() -> Point {
@@ -381,7 +390,7 @@ mod tests {
         let m = model(0.05);
         let p = point();
         let lambda = 0.02;
-        let loc = local(&m, &p, lambda);
+        let loc = local(&m, &p, lambda, true);
         let h = 1e-6;
         for v in 0..9 {
             let fp = objective(&m, &perturb(&p, v, h), lambda);
@@ -392,8 +401,8 @@ mod tests {
                 "grad {v}: {fd} vs {}",
                 loc.grad[v]
             );
-            let gp = local(&m, &perturb(&p, v, h), lambda).grad;
-            let gm = local(&m, &perturb(&p, v, -h), lambda).grad;
+            let gp = local(&m, &perturb(&p, v, h), lambda, true).grad;
+            let gm = local(&m, &perturb(&p, v, -h), lambda, true).grad;
             for u in 0..9 {
                 let fd = (gp[u] - gm[u]) / (2.0 * h);
                 let an = loc.hess[(u, v)];
