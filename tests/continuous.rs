@@ -184,27 +184,6 @@ fn noisy_reference_cases_agree_with_clarabel() {
     }
 }
 
-/// Per-spike position standard deviations from the reference CRB files (numpy, Fisher information of
-/// the exact model: Stoica & Nehorai 1989, IEEE TASSP 37(5)).
-fn crb_std(name: &str) -> Vec<(f64, f64)> {
-    let path = common::refdata()
-        .join("crb")
-        .join(format!("{name}.crb.json"));
-    let v: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
-    v["spikes"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|s| {
-            (
-                s["position"].as_f64().unwrap(),
-                s["std_position"].as_f64().unwrap(),
-            )
-        })
-        .collect()
-}
-
 /// Every noisy reference case at SNR ≥ 20 dB: nothing missed or spurious, every position within 4 CRB
 /// standard deviations (one draw: 4σ is exceeded with probability 6e-5 per spike), certified.
 #[test]
@@ -223,7 +202,7 @@ fn noisy_reference_cases_within_four_crb_deviations() {
             (c.truth.spikes.len(), 0),
             "{name}: {s:?}"
         );
-        for (pos, std) in crb_std(&name) {
+        for (pos, std) in common::crb_std(&name) {
             let nearest = est
                 .spikes
                 .iter()

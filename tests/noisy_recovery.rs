@@ -4,27 +4,6 @@ mod common;
 use common::{case_names, load_case, score};
 use finespike::{Ast, Estimator, Tv};
 
-/// Per-spike position standard deviations from the reference CRB files (numpy, Fisher information of
-/// the exact model: Stoica & Nehorai 1989, IEEE TASSP 37(5)), in truth order.
-fn crb_std(name: &str) -> Vec<(f64, f64)> {
-    let path = common::refdata()
-        .join("crb")
-        .join(format!("{name}.crb.json"));
-    let v: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
-    v["spikes"]
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|s| {
-            (
-                s["position"].as_f64().unwrap(),
-                s["std_position"].as_f64().unwrap(),
-            )
-        })
-        .collect()
-}
-
 /// Every position within 4 CRB standard deviations, nothing missed or spurious, at SNR ≥ 20 dB.
 /// (A single draw: 4σ of a Gaussian is exceeded with probability 6e-5 per spike.)
 fn check_case(est: &dyn Estimator, name: &str) {
@@ -41,7 +20,7 @@ fn check_case(est: &dyn Estimator, name: &str) {
         e.spikes
     );
     assert_eq!(s.spurious, 0, "{} {name}: {s:?}", est.name());
-    for (pos, std) in crb_std(name) {
+    for (pos, std) in common::crb_std(name) {
         let nearest = e
             .spikes
             .iter()

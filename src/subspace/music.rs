@@ -112,7 +112,7 @@ pub struct Pseudospectrum {
 /// let data = Measurements::synthesize(&truth, -6, 6, &idx, Domain::Fourier)?;
 /// let settings = SubspaceSettings::default().with_order(OrderSelection::Given(1))?;
 /// let p = pseudospectrum(&data, &settings, 64)?;
-/// let peak = (0..64).max_by(|&i, &j| p.values[i].total_cmp(&p.values[j])).unwrap();
+/// let peak = (0..64).max_by(|&i, &j| p.values[i].total_cmp(&p.values[j])).unwrap_or(0);
 /// assert_eq!(p.positions[peak], 0.25);
 /// # Ok::<(), finespike::Error>(())
 /// ```

@@ -95,3 +95,23 @@ pub fn score(estimate: &Spikes, truth: &Spikes, fc: f64) -> Score {
         max_rel_amp_err: if found > 0 { max_amp } else { f64::INFINITY },
     }
 }
+
+/// Per-spike position standard deviations `(position, std)` from the reference CRB file of `name`
+/// (numpy, Fisher information of the exact model: Stoica & Nehorai 1989, IEEE TASSP 37(5)), in truth
+/// order.
+pub fn crb_std(name: &str) -> Vec<(f64, f64)> {
+    let path = refdata().join("crb").join(format!("{name}.crb.json"));
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap();
+    v["spikes"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| {
+            (
+                s["position"].as_f64().unwrap(),
+                s["std_position"].as_f64().unwrap(),
+            )
+        })
+        .collect()
+}
