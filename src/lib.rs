@@ -47,6 +47,7 @@ pub mod refine;
 pub mod scenario;
 pub mod sdp;
 pub mod subspace;
+pub mod sweep;
 
 // The pure-Rust BLAS/LAPACK symbols clarabel's PSD cone links against.
 #[cfg(feature = "pure-lapack")]
