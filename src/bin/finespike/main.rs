@@ -1,22 +1,51 @@
-//! Command-line front end of finespike.
+//! Command-line front end of finespike: `recover`, `simulate`, `compare`, `bound`, `plot`.
 //!
-//! Exit codes: 0 success; 2 bad command line (unknown option, missing value); 3 unreadable or malformed
-//! input file, or invalid data; 4 the estimator could not run on these data; 5 output could not be
-//! written.
+//! Files: samples are CSV with header `k,re,im` (Fourier coefficients `y_k`) or `n,re,im` (time samples
+//! `x_n`, stored as `k = −n`); spikes (truth or result) are JSON
+//! `{"fc": 8, "sigma": 0.01, "spikes": [{"position": 0.25, "amplitude": [re, im]}]}`.
+//!
+//! Exit codes:
+//! - 0 success;
+//! - 2 bad command line: unknown option, missing or invalid value, an option the chosen method does
+//!   not take (`--order`), a figure the files do not supply and no flag gives (σ, fc);
+//! - 3 unreadable or malformed input file (file, line, what was found, what was expected), or data that
+//!   are not a valid measurement set (duplicate index, index outside the band, fc = 0);
+//! - 4 the estimator could not run on these data (e.g. a subspace method on a measured set with gaps);
+//! - 5 an output could not be written.
 
-use clap::{Parser, Subcommand, ValueEnum};
-use finespike::io::{self, SpikeFile};
-use finespike::{
-    estimator_by_name, AmplitudeKind, Ast, Domain, Error, Estimate, Estimator, NoiseLevel,
-    Scenario, Tv, METHODS,
-};
-use std::path::PathBuf;
+mod bound;
+mod compare;
+mod input;
+mod plot;
+mod recover;
+mod simulate;
+
+use clap::{Args, Parser, Subcommand, ValueEnum};
+use finespike::{AmplitudeKind, Domain, Error, NoiseLevel, METHODS};
+use std::path::Path;
 use std::process::ExitCode;
+
+/// Exit codes, shown under every `--help`.
+const EXIT_CODES: &str = "\
+Exit codes:
+  0  success
+  2  bad command line (unknown option, invalid value, an option the method does not take,
+     a figure such as σ or fc that neither the files nor the flags supply)
+  3  unreadable or malformed input file (file, line, what was found, what was expected),
+     or invalid data (duplicate index, index outside the band, fc = 0)
+  4  the estimator could not run on these data
+  5  an output could not be written";
 
 /// Recover off-grid spikes (point sources, spectral lines) from band-limited Fourier samples or
 /// uniform time samples, finer than the Rayleigh limit 1/fc.
+///
+/// Sample files are CSV with header `k,re,im` (Fourier coefficients y_k, k in -fc..fc, any subset)
+/// or `n,re,im` (time samples x_n, n = 0..N-1). Spike files (truth or result) are JSON:
+/// {"fc": 8, "sigma": 0.01, "spikes": [{"position": 0.25, "amplitude": [re, im]}]}; fc and sigma
+/// are optional. Positions are on [0, 1) (for time samples: frequency in cycles per sample);
+/// distances are reported in Rayleigh units (multiples of 1/fc).
 #[derive(Parser, Debug)]
-#[command(name = "finespike", version, about, long_about = None)]
+#[command(name = "finespike", version, about, long_about, after_help = EXIT_CODES)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
@@ -24,95 +53,115 @@ struct Cli {
 
 #[derive(Subcommand, Debug)]
 enum Command {
-    /// Recover spikes from a sample file and print the result as JSON (or CSV) on stdout.
-    ///
-    /// The input is CSV with header `k,re,im` (Fourier coefficients y_k, k in -fc..fc) or `n,re,im`
-    /// (time samples x_n, n = 0..N-1). Warnings (under-resolved lines, weak certificate, no
-    /// convergence) are also printed on stderr.
-    Recover {
-        /// Sample file (CSV, header `k,re,im` or `n,re,im`).
-        #[arg(long, short)]
-        input: PathBuf,
-        /// Method name.
-        #[arg(long, short, default_value = "sdp", value_parser = clap::builder::PossibleValuesParser::new(METHODS))]
-        method: String,
-        /// Cutoff fc of the band -fc..fc (Fourier files; default: the largest |k| in the file).
-        #[arg(long)]
-        fc: Option<usize>,
-        /// Expected domain; the file header must agree (default: taken from the header).
-        #[arg(long, value_enum)]
-        domain: Option<DomainArg>,
-        /// Noise standard deviation σ (E|n_k|² = σ²). 0 means exact data; omitted: estimated.
-        #[arg(long)]
-        sigma: Option<f64>,
-        /// Output format.
-        #[arg(long, value_enum, default_value_t = Format::Json)]
-        format: Format,
-    },
-    /// Write an invented scene: a sample CSV and its truth JSON.
-    Simulate {
-        /// Cutoff fc (band -fc..fc, or 2fc+1 time samples).
-        #[arg(long, default_value_t = 16)]
-        fc: usize,
-        /// Number of spikes.
-        #[arg(long, default_value_t = 3)]
-        count: usize,
-        /// Minimum separation in Rayleigh units (Δ·fc).
-        #[arg(long, default_value_t = 2.0)]
-        separation: f64,
-        /// Signal-to-noise ratio of the weakest spike in dB (omitted: exact data).
-        #[arg(long)]
-        snr: Option<f64>,
-        /// Amplitude kind.
-        #[arg(long, value_enum, default_value_t = AmpArg::Complex)]
-        amplitudes: AmpArg,
-        /// Random seed.
-        #[arg(long, default_value_t = 0)]
-        seed: u64,
-        /// Fraction of the band's coefficients kept at random.
-        #[arg(long, default_value_t = 1.0)]
-        subset: f64,
-        /// Fourier coefficients or time samples.
-        #[arg(long, value_enum, default_value_t = DomainArg::Fourier)]
-        domain: DomainArg,
-        /// Where to write the samples (CSV).
-        #[arg(long)]
-        out: PathBuf,
-        /// Where to write the truth (JSON).
-        #[arg(long)]
-        truth: PathBuf,
-    },
+    Recover(recover::RecoverArgs),
+    Simulate(simulate::SimulateArgs),
+    Compare(compare::CompareArgs),
+    Bound(bound::BoundArgs),
+    Plot(plot::PlotArgs),
 }
 
+/// Fourier coefficients or time samples.
 #[derive(ValueEnum, Clone, Copy, Debug, PartialEq)]
 enum DomainArg {
+    /// Fourier coefficients y_k, k in -fc..fc (header `k,re,im`).
     Fourier,
+    /// Uniform time samples x_n, n = 0..N-1 (header `n,re,im`).
     Time,
 }
 
-#[derive(ValueEnum, Clone, Copy, Debug)]
+impl DomainArg {
+    fn domain(self) -> Domain {
+        match self {
+            DomainArg::Fourier => Domain::Fourier,
+            DomainArg::Time => Domain::Time,
+        }
+    }
+}
+
+/// Machine-readable output formats of `recover`.
+#[derive(ValueEnum, Clone, Copy, Debug, PartialEq)]
 enum Format {
+    /// JSON: spikes, method, status, diagnostics.
     Json,
+    /// CSV `position,re,im`.
     Csv,
 }
 
+/// Output formats of the reports (`compare`, `bound`).
+#[derive(ValueEnum, Clone, Copy, Debug, PartialEq)]
+enum ReportFormat {
+    /// Aligned plain text for reading.
+    Text,
+    /// CSV, one row per method or spike.
+    Csv,
+    /// JSON.
+    Json,
+}
+
+/// How the amplitudes of an invented scene are drawn.
 #[derive(ValueEnum, Clone, Copy, Debug)]
 enum AmpArg {
+    /// Modulus uniform in [0.5, 1.5], phase uniform.
     Complex,
+    /// Real, uniform in [0.5, 1.5] (positive measures).
     RealPositive,
+    /// Modulus 1, phase uniform.
     UnitModulus,
 }
 
+impl AmpArg {
+    fn kind(self) -> AmplitudeKind {
+        match self {
+            AmpArg::Complex => AmplitudeKind::Complex,
+            AmpArg::RealPositive => AmplitudeKind::RealPositive,
+            AmpArg::UnitModulus => AmplitudeKind::UnitModulus,
+        }
+    }
+}
+
+/// The options that choose and set up an estimator (shared by `recover` and `plot`).
+#[derive(Args, Debug, Clone)]
+struct MethodArgs {
+    /// Method name (the convex `sdp` is the default).
+    #[arg(long, short, default_value = "sdp", value_parser = clap::builder::PossibleValuesParser::new(METHODS))]
+    method: String,
+    /// Noise standard deviation σ (E|n_k|² = σ²) for the methods that use one; 0 means exact data;
+    /// omitted: estimated from the data.
+    #[arg(long)]
+    sigma: Option<f64>,
+    /// Model order (number of spikes), for the methods that take one: the subspace methods and
+    /// greedy (any other method refuses it); omitted: the method decides (MDL, or the residual).
+    #[arg(long)]
+    order: Option<usize>,
+}
+
+/// Why a command failed; each maps to an exit code.
 enum Failure {
+    /// Exit 2.
+    Usage(String),
+    /// Exit 3.
     Input(Error),
+    /// Exit 4.
     Estimate(Error),
+    /// Exit 5.
     Output(String),
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
-    match run(cli) {
+    let result = match cli.command {
+        Command::Recover(a) => recover::run(a),
+        Command::Simulate(a) => simulate::run(a),
+        Command::Compare(a) => compare::run(a),
+        Command::Bound(a) => bound::run(a),
+        Command::Plot(a) => plot::run(a),
+    };
+    match result {
         Ok(()) => ExitCode::SUCCESS,
+        Err(Failure::Usage(e)) => {
+            eprintln!("error: {e}");
+            ExitCode::from(2)
+        }
         Err(Failure::Input(e)) => {
             eprintln!("error: {e}");
             ExitCode::from(3)
@@ -128,147 +177,72 @@ fn main() -> ExitCode {
     }
 }
 
+/// The noise level for `--sigma`: omitted → estimated, 0 → exact, else known.
 fn noise_level(sigma: Option<f64>) -> NoiseLevel {
     match sigma {
         None => NoiseLevel::Estimate,
-        Some(s) => {
-            if s == 0.0 {
-                NoiseLevel::Exact
-            } else {
-                NoiseLevel::Known(s)
-            }
-        }
+        Some(0.0) => NoiseLevel::Exact,
+        Some(s) => NoiseLevel::Known(s),
     }
 }
 
-fn build_estimator(method: &str, sigma: Option<f64>) -> Result<Box<dyn Estimator>, Error> {
-    let noise = noise_level(sigma).validated()?;
-    Ok(match method {
-        "sdp" => Box::new(Tv {
-            noise,
-            ..Tv::default()
-        }),
-        "ast" => Box::new(Ast {
-            noise,
-            ..Ast::default()
-        }),
-        "sfw" => Box::new(finespike::Sfw {
-            noise,
-            ..finespike::Sfw::default()
-        }),
-        "greedy" => Box::new(finespike::greedy::Greedy {
-            noise,
-            ..finespike::greedy::Greedy::default()
-        }),
-        other => estimator_by_name(other)?,
-    })
-}
-
-fn run(cli: Cli) -> Result<(), Failure> {
-    match cli.command {
-        Command::Recover {
-            input,
-            method,
-            fc,
-            domain,
-            sigma,
-            format,
-        } => {
-            let rows = io::read_samples(&input).map_err(Failure::Input)?;
-            if let Some(d) = domain {
-                let want = match d {
-                    DomainArg::Fourier => Domain::Fourier,
-                    DomainArg::Time => Domain::Time,
-                };
-                if want != rows.domain {
-                    let header = if rows.domain == Domain::Fourier {
-                        "k,re,im"
-                    } else {
-                        "n,re,im"
-                    };
-                    return Err(Failure::Input(Error::Parse {
-                        source_name: input.display().to_string(),
-                        line: 1,
-                        message: format!(
-                            "--domain {} expects header '{}', found '{header}'",
-                            if want == Domain::Fourier {
-                                "fourier"
-                            } else {
-                                "time"
-                            },
-                            if want == Domain::Fourier {
-                                "k,re,im"
-                            } else {
-                                "n,re,im"
-                            },
-                        ),
-                    }));
-                }
-            }
-            let data = rows.into_measurements(fc).map_err(Failure::Input)?;
-            let est = build_estimator(&method, sigma).map_err(Failure::Input)?;
-            let estimate = est.estimate(&data).map_err(Failure::Estimate)?;
-            report_warnings(&estimate);
-            let text = match format {
-                Format::Json => io::estimate_to_json(&estimate),
-                Format::Csv => io::spikes_to_csv(&estimate.spikes),
-            };
-            println!("{}", text.trim_end());
-            Ok(())
-        }
-        Command::Simulate {
-            fc,
-            count,
-            separation,
-            snr,
-            amplitudes,
-            seed,
-            subset,
-            domain,
-            out,
-            truth,
-        } => {
-            let mut sc = Scenario::new(fc, count)
-                .with_separation(separation)
-                .with_amplitudes(match amplitudes {
-                    AmpArg::Complex => AmplitudeKind::Complex,
-                    AmpArg::RealPositive => AmplitudeKind::RealPositive,
-                    AmpArg::UnitModulus => AmplitudeKind::UnitModulus,
-                })
-                .with_seed(seed)
-                .with_subset_fraction(subset)
-                .with_domain(match domain {
-                    DomainArg::Fourier => Domain::Fourier,
-                    DomainArg::Time => Domain::Time,
-                });
-            if let Some(s) = snr {
-                sc = sc.with_snr_db(s);
-            }
-            let sample = sc.generate().map_err(Failure::Input)?;
-            let file = SpikeFile {
-                fc: Some(sample.data.fc()),
-                sigma: Some(sample.sigma),
-                spikes: sample.truth.clone(),
-            };
-            let json =
-                serde_json::to_string_pretty(&file).map_err(|e| Failure::Output(e.to_string()))?;
-            write(&out, &io::samples_to_csv(&sample.data))?;
-            write(&truth, &json)?;
-            Ok(())
-        }
+/// Build the estimator of `args`; an invalid setting or an option the method does not take is a
+/// command-line error. Notes about ignored options go to stderr.
+fn configure(args: &MethodArgs) -> Result<Box<dyn finespike::Estimator>, Failure> {
+    let options = finespike::sweep::MethodOptions {
+        noise: noise_level(args.sigma),
+        order: args.order,
+    };
+    let configured = finespike::sweep::configure(&args.method, &options).map_err(|e| match e {
+        Error::Unsupported { method, reason } => Failure::Usage(format!(
+            "--order is not available for method '{method}': {reason}"
+        )),
+        other => Failure::Usage(other.to_string()),
+    })?;
+    for what in &configured.unused {
+        eprintln!(
+            "note: method '{}' does not use a {what}; --sigma is ignored",
+            args.method
+        );
     }
+    Ok(configured.estimator)
 }
 
-fn write(path: &PathBuf, text: &str) -> Result<(), Failure> {
+/// Write `text` to `path`, or to stdout for `-`.
+fn write_output(path: &Path, text: &str) -> Result<(), Failure> {
+    if path == Path::new("-") {
+        print!("{text}");
+        return Ok(());
+    }
     std::fs::write(path, text)
         .map_err(|e| Failure::Output(format!("cannot write {}: {e}", path.display())))
 }
 
-fn report_warnings(estimate: &Estimate) {
-    if !estimate.status.is_usable() {
-        eprintln!("warning: solver status '{}'", estimate.status);
+/// A path for display.
+fn shown(path: &Path) -> String {
+    path.display().to_string()
+}
+
+/// A `PathBuf` argument's file name, for captions.
+fn file_name(path: &Path) -> String {
+    path.file_name()
+        .map_or_else(|| shown(path), |n| n.to_string_lossy().into_owned())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use clap::CommandFactory;
+
+    #[test]
+    fn command_line_definition_is_consistent() {
+        Cli::command().debug_assert();
     }
-    for w in &estimate.diagnostics.warnings {
-        eprintln!("warning: {w}");
+
+    #[test]
+    fn sigma_maps_to_noise_levels() {
+        assert_eq!(noise_level(None), NoiseLevel::Estimate);
+        assert_eq!(noise_level(Some(0.0)), NoiseLevel::Exact);
+        assert_eq!(noise_level(Some(0.5)), NoiseLevel::Known(0.5));
     }
 }

@@ -1,0 +1,284 @@
+//! `bound`: the Cramér–Rao bound of the spikes in a truth file.
+
+use crate::{input, shown, DomainArg, Failure, ReportFormat};
+use clap::Args;
+use finespike::{crb, Crb, Domain, Measurements};
+use serde_json::json;
+use std::path::PathBuf;
+
+/// The Cramér–Rao bound for the spikes of a truth file.
+///
+/// The bound is the smallest standard deviation any unbiased estimator can reach for each position (in 1/fc units and absolute), modulus and phase, in complex
+/// white Gaussian noise of level σ (Fisher information of the exact model, Stoica & Nehorai 1989).
+///
+/// The measured set is the full band -fc..fc (Fourier), N time samples n = 0..N-1 (time), or the
+/// indices of a sample file (--data, which may have gaps). fc and σ come from the truth file unless
+/// given; amplitudes are referred to k = 0 (for time samples: to the first sample).
+#[derive(Args, Debug)]
+#[command(after_help = crate::EXIT_CODES)]
+pub struct BoundArgs {
+    /// Truth file (JSON spikes, with optional fc and sigma).
+    #[arg(long, short)]
+    truth: PathBuf,
+    /// Take the measured index set from this sample file (CSV) instead of a full band.
+    #[arg(long)]
+    data: Option<PathBuf>,
+    /// Noise standard deviation σ, E|n_k|² = σ² (default: the truth file's sigma; must be > 0).
+    #[arg(long)]
+    sigma: Option<f64>,
+    /// Cutoff fc of the band -fc..fc (default: the truth file's fc).
+    #[arg(long)]
+    fc: Option<usize>,
+    /// Fourier band -fc..fc, or time samples (default fourier; with --data: from its header).
+    #[arg(long, value_enum)]
+    domain: Option<DomainArg>,
+    /// Number N of time samples (time domain; default 2fc+1).
+    #[arg(long)]
+    samples: Option<usize>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = ReportFormat::Text)]
+    format: ReportFormat,
+}
+
+/// The measured set: indices and band, and a description for the report.
+struct Band {
+    indices: Vec<i64>,
+    kmin: i64,
+    kmax: i64,
+    describe: String,
+}
+
+fn integer_fc(fc: Option<usize>, file_fc: Option<f64>) -> Result<usize, Failure> {
+    if let Some(f) = fc {
+        return Ok(f);
+    }
+    match file_fc {
+        Some(f) if f >= 1.0 && f.fract() == 0.0 && f <= u32::MAX as f64 => Ok(f as usize),
+        Some(f) => Err(Failure::Usage(format!(
+            "the truth file's fc = {f} is not a positive integer: give --fc (or --samples for time data)"
+        ))),
+        None => Err(Failure::Usage(
+            "the truth file records no fc: give --fc, --samples or --data".into(),
+        )),
+    }
+}
+
+fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
+    if let Some(path) = &a.data {
+        let data: Measurements =
+            input::load_samples(path, a.fc, a.domain).map_err(Failure::Input)?;
+        return Ok(Band {
+            indices: data.indices().to_vec(),
+            kmin: data.kmin(),
+            kmax: data.kmax(),
+            describe: format!(
+                "{} measured {} of {} (band {}..{} of k; fc = {})",
+                data.len(),
+                if data.domain() == Domain::Time {
+                    "time samples"
+                } else {
+                    "coefficients"
+                },
+                shown(path),
+                data.kmin(),
+                data.kmax(),
+                data.fc()
+            ),
+        });
+    }
+    match a.domain.unwrap_or(DomainArg::Fourier) {
+        DomainArg::Fourier => {
+            if a.samples.is_some() {
+                return Err(Failure::Usage(
+                    "--samples is for time data: use --fc for a Fourier band, or --domain time"
+                        .into(),
+                ));
+            }
+            let fc = integer_fc(a.fc, file_fc)?;
+            if fc == 0 {
+                return Err(Failure::Usage(
+                    "--fc 0: the cutoff must be at least 1".into(),
+                ));
+            }
+            let f = fc as i64;
+            Ok(Band {
+                indices: (-f..=f).collect(),
+                kmin: -f,
+                kmax: f,
+                describe: format!(
+                    "Fourier band k = -{fc}..{fc} ({} coefficients; fc = {fc})",
+                    2 * fc + 1
+                ),
+            })
+        }
+        DomainArg::Time => {
+            let n = match a.samples {
+                Some(n) => n,
+                None => match (a.fc, file_fc) {
+                    (Some(f), _) => 2 * f + 1,
+                    // A time record of N samples has fc = (N − 1)/2.
+                    (None, Some(f)) if f > 0.0 && (2.0 * f).fract() == 0.0 => (2.0 * f) as usize + 1,
+                    _ => {
+                        return Err(Failure::Usage(
+                            "give --samples N (or --fc) for a time record: the truth file has no usable fc"
+                                .into(),
+                        ))
+                    }
+                },
+            };
+            if n < 2 {
+                return Err(Failure::Usage(format!(
+                    "--samples {n}: at least 2 time samples are needed"
+                )));
+            }
+            let last = n as i64 - 1;
+            Ok(Band {
+                indices: (-last..=0).collect(),
+                kmin: -last,
+                kmax: 0,
+                describe: format!(
+                    "{n} time samples n = 0..{last} (fc = (N-1)/2 = {})",
+                    last as f64 / 2.0
+                ),
+            })
+        }
+    }
+}
+
+pub fn run(a: BoundArgs) -> Result<(), Failure> {
+    let file = input::load_spikes(&a.truth).map_err(Failure::Input)?;
+    let sigma = match (a.sigma, file.sigma) {
+        (Some(s), _) if s.is_finite() && s > 0.0 => s,
+        (Some(s), _) => {
+            return Err(Failure::Usage(format!(
+            "--sigma {s}: the noise level must be finite and positive (for σ = 0 every bound is 0)"
+        )))
+        }
+        (None, Some(s)) if s.is_finite() && s > 0.0 => s,
+        (None, Some(s)) => {
+            return Err(Failure::Usage(format!(
+                "the truth file records sigma = {s} (exact data: every bound is 0): give --sigma"
+            )))
+        }
+        (None, None) => {
+            return Err(Failure::Usage(
+                "the truth file records no sigma: give --sigma".into(),
+            ))
+        }
+    };
+    let band = band(&a, file.fc)?;
+    let bound =
+        crb(&band.indices, band.kmin..=band.kmax, &file.spikes, sigma).map_err(Failure::Input)?;
+    let text = match a.format {
+        ReportFormat::Json => {
+            serde_json::to_string_pretty(&json!({
+                "truth": shown(&a.truth),
+                "sigma": sigma,
+                "kmin": band.kmin,
+                "kmax": band.kmax,
+                "measured": band.indices.len(),
+                "bound": bound,
+            }))
+            .unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+                + "\n"
+        }
+        ReportFormat::Csv => csv(&bound),
+        ReportFormat::Text => text(&a, &band, sigma, &bound, &file.spikes),
+    };
+    print!("{text}");
+    Ok(())
+}
+
+fn csv(b: &Crb) -> String {
+    let mut out = String::from(
+        "position,re,im,std_position,std_position_fc,std_abs_amplitude,std_phase,std_complex_amplitude\n",
+    );
+    for s in &b.per_spike {
+        out.push_str(&format!(
+            "{:e},{:e},{:e},{:e},{:e},{:e},{:e},{:e}\n",
+            s.position,
+            s.amplitude.re,
+            s.amplitude.im,
+            s.std_position,
+            s.std_position_fc,
+            s.std_abs_amplitude,
+            s.std_phase,
+            s.std_complex_amplitude
+        ));
+    }
+    out
+}
+
+fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spikes) -> String {
+    let mut out = format!(
+        "Cramér–Rao bound for the {} spikes of {}\nmeasured: {}\nnoise: σ = {sigma:.4e} (E|n_k|² = σ²)\n",
+        b.per_spike.len(),
+        shown(&a.truth),
+        band.describe,
+    );
+    let sep = spikes.min_separation() * b.fc;
+    if sep.is_finite() {
+        out.push_str(&format!(
+            "closest pair: {sep:.3}/fc (Rayleigh units){}\n",
+            if sep < 1.0 {
+                " — UNDER-RESOLVED: below the Rayleigh limit, the position bounds grow fast as lines close in"
+            } else {
+                ""
+            }
+        ));
+    }
+    out.push_str(&format!(
+        "Fisher matrix condition number: {:.3e}\n\n",
+        b.fisher_condition
+    ));
+    let head = [
+        "#",
+        "position",
+        "|a|",
+        "std τ·fc",
+        "std τ",
+        "std |a|",
+        "std arg a",
+    ];
+    let rows: Vec<[String; 7]> = b
+        .per_spike
+        .iter()
+        .enumerate()
+        .map(|(i, s)| {
+            [
+                (i + 1).to_string(),
+                format!("{:.6}", s.position),
+                format!("{:.4}", s.amplitude.norm()),
+                format!("{:.3e}", s.std_position_fc),
+                format!("{:.3e}", s.std_position),
+                format!("{:.3e}", s.std_abs_amplitude),
+                format!("{:.3e} rad", s.std_phase),
+            ]
+        })
+        .collect();
+    let mut widths: Vec<usize> = head.iter().map(|h| h.chars().count()).collect();
+    for r in &rows {
+        for (w, c) in widths.iter_mut().zip(r) {
+            *w = (*w).max(c.chars().count());
+        }
+    }
+    let line = |cells: Vec<&str>| -> String {
+        cells
+            .iter()
+            .zip(&widths)
+            .map(|(c, w)| format!("{}{c}", " ".repeat(w - c.chars().count())))
+            .collect::<Vec<_>>()
+            .join("  ")
+            + "\n"
+    };
+    out.push_str(&line(head.to_vec()));
+    for r in &rows {
+        out.push_str(&line(r.iter().map(String::as_str).collect()));
+    }
+    out.push_str(
+        "\nstd τ·fc: one standard deviation of the position in Rayleigh units (1/fc); std τ: the same \
+         in position units\n(cycles per sample for time data); |a| and arg a: modulus and phase of the \
+         amplitude.\n",
+    );
+    out
+}
