@@ -42,7 +42,24 @@ pub fn load_samples(
     domain: Option<DomainArg>,
 ) -> Result<Measurements, Error> {
     let text = read_text(path)?;
-    let rows = io::parse_samples(&text, &shown(path))?;
+    if text.trim().is_empty() {
+        return Err(parse_error(
+            path,
+            1,
+            "found an empty file, expected the header 'k,re,im' (Fourier coefficients) or 'n,re,im' \
+             (time samples) and one row per sample"
+                .into(),
+        ));
+    }
+    let rows = io::parse_samples(&text, &shown(path)).map_err(|e| match e {
+        Error::Empty { .. } => parse_error(
+            path,
+            2,
+            "found no data rows after the header, expected at least one row of three numbers"
+                .into(),
+        ),
+        other => other,
+    })?;
     let (col, header) = match rows.domain {
         Domain::Fourier => ("k", "k,re,im"),
         Domain::Time => ("n", "n,re,im"),

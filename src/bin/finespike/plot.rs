@@ -36,7 +36,7 @@ pub struct PlotArgs {
     #[arg(long, value_enum)]
     domain: Option<DomainArg>,
     /// Show only the positions FROM..TO of [0, 1) (e.g. `--range 0.2,0.45`).
-    #[arg(long, value_delimiter = ',', num_args = 2, value_names = ["FROM", "TO"])]
+    #[arg(long, value_delimiter = ',', value_name = "FROM,TO")]
     range: Option<Vec<f64>>,
     /// Width of the figure in pixels.
     #[arg(long, default_value_t = 1100)]

@@ -1,10 +1,10 @@
 //! `recover`: one estimator on one sample file; the result on stdout, a readable summary on stderr.
 
-use crate::{configure, input, DomainArg, Failure, Format, MethodArgs};
+use crate::{configure, input, noise_level, DomainArg, Failure, Format, MethodArgs};
 use clap::Args;
 use finespike::io;
 use finespike::sweep::takes_noise_level;
-use finespike::Estimate;
+use finespike::{Estimate, NoiseLevel};
 use std::path::PathBuf;
 
 /// Recover spikes from a sample file with one method.
@@ -43,7 +43,11 @@ pub fn run(a: RecoverArgs) -> Result<(), Failure> {
     if !a.quiet {
         eprint!(
             "{}",
-            summary(&estimate, takes_noise_level(&a.method.method))
+            summary(
+                &estimate,
+                takes_noise_level(&a.method.method),
+                noise_level(a.method.sigma)
+            )
         );
     }
     report_warnings(&estimate);
@@ -77,7 +81,7 @@ fn list(values: &[f64], digits: usize) -> String {
 }
 
 /// The readable summary of an estimate's diagnostics (several lines, each ending in a newline).
-pub fn summary(estimate: &Estimate, uses_noise: bool) -> String {
+pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> String {
     let d = &estimate.diagnostics;
     let mut out = format!(
         "{}: {} after {} iteration{} in {:.3} s\n",
@@ -92,7 +96,10 @@ pub fn summary(estimate: &Estimate, uses_noise: bool) -> String {
     };
     let noise = match (d.sigma, uses_noise) {
         (_, false) => "not used by this method".to_string(),
-        (None, true) => "none".to_string(),
+        (None, true) if requested == NoiseLevel::Exact => {
+            "σ = 0, exact data (as given)".to_string()
+        }
+        (None, true) => "none recorded by this method".to_string(),
         (Some(0.0), true) => format!(
             "σ = 0, exact data ({})",
             if d.sigma_estimated {
