@@ -163,6 +163,7 @@ fn caption(
     data: &Measurements,
     truth: Option<&SpikeFile>,
     est: &Estimate,
+    (x0, x1): (f64, f64),
     width_chars: usize,
 ) -> Vec<Line> {
     let fc = data.fc();
@@ -196,6 +197,27 @@ fn caption(
         ),
         false,
     ));
+    if (x0, x1) != (0.0, 1.0) {
+        let inside = |sp: &Spikes| {
+            sp.iter()
+                .filter(|s| s.position >= x0 && s.position <= x1)
+                .count()
+        };
+        let mut line = format!(
+            "View {x0}..{x1} of [0, 1): {} of {} recovered spikes shown",
+            inside(&est.spikes),
+            est.spikes.len()
+        );
+        if let Some(t) = truth {
+            line.push_str(&format!(
+                ", {} of {} true spikes",
+                inside(&t.spikes),
+                t.spikes.len()
+            ));
+        }
+        line.push('.');
+        raw.push((line, false));
+    }
     if let Some(t) = truth {
         let s = t.spikes.min_separation() * fc;
         let mut line = format!(
@@ -291,7 +313,7 @@ fn render(
         .dual
         .as_ref()
         .map(|q| q.grid_values(m).iter().map(|v| v.norm()).collect());
-    let lines = caption(a, data, truth, est, (width as usize - 48) / 7);
+    let lines = caption(a, data, truth, est, (x0, x1), (width as usize - 48) / 7);
     let top_h = 420u32;
     let mid_h = if dual.is_some() { 240u32 } else { 0 };
     let cap_h = 24 * lines.len() as u32 + 24;
@@ -326,7 +348,7 @@ fn render(
                 format!("{} — {} estimate", file_name(&a.input), est.method),
                 ("sans-serif", 22).into_font().color(&INK),
             )
-            .x_label_area_size(42)
+            .x_label_area_size(50)
             .y_label_area_size(64)
             .build_cartesian_2d(x0..x1, 0.0..ymax)
             .map_err(draw_err)?;
@@ -441,7 +463,7 @@ fn render(
                     "dual polynomial |q(t)|: the support is where it touches the dashed line |q| = 1",
                     ("sans-serif", 16).into_font().color(&INK),
                 )
-                .x_label_area_size(42)
+                .x_label_area_size(50)
                 .y_label_area_size(64)
                 .build_cartesian_2d(x0..x1, 0.0..qmax)
                 .map_err(draw_err)?;
