@@ -70,6 +70,9 @@ pub struct Configured {
     pub estimator: Box<dyn Estimator>,
     /// Requested options that this method ignores (`"noise level"`), for a note to the user.
     pub unused: Vec<&'static str>,
+    /// True when this module has no specific settings for the method and it runs exactly as
+    /// [`estimator_by_name`] builds it (its own defaults, e.g. a noise level estimated from the data).
+    pub defaults_only: bool,
 }
 
 /// Build the estimator called `name` with `options` applied where the method takes them.
@@ -109,6 +112,7 @@ pub fn configure(name: &str, options: &MethodOptions) -> Result<Configured> {
     if noise != NoiseLevel::Estimate && !takes_noise_level(name) {
         unused.push("noise level");
     }
+    let mut defaults_only = false;
     let estimator: Box<dyn Estimator> = match name {
         "sdp" => Box::new(Tv {
             noise,
@@ -135,9 +139,16 @@ pub fn configure(name: &str, options: &MethodOptions) -> Result<Configured> {
         "music" => Box::new(Music::new(subspace(options.order)?)),
         "esprit" => Box::new(Esprit::new(subspace(options.order)?)),
         "pencil" => Box::new(MatrixPencil::new(subspace(options.order)?)),
-        other => estimator_by_name(other)?,
+        other => {
+            defaults_only = true;
+            estimator_by_name(other)?
+        }
     };
-    Ok(Configured { estimator, unused })
+    Ok(Configured {
+        estimator,
+        unused,
+        defaults_only,
+    })
 }
 
 /// One method's result on one data set, scored against the truth.
@@ -576,7 +587,8 @@ mod tests {
             configure("music", &known).unwrap().unused,
             vec!["noise level"]
         );
-        assert!(configure("sdp", &known).unwrap().unused.is_empty());
+        let sdp = configure("sdp", &known).unwrap();
+        assert!(sdp.unused.is_empty() && !sdp.defaults_only);
         let bad = MethodOptions {
             noise: NoiseLevel::Known(-1.0),
             order: None,

@@ -129,6 +129,24 @@ pub fn run(a: CompareArgs) -> Result<(), Failure> {
             );
         }
     }
+    // Methods this tool cannot pass settings to run on their own defaults: say so when the others get
+    // a noise level, since the comparison is then not like for like.
+    let gives_sigma = match &a.input {
+        Some(_) => a.sigma.is_some(),
+        None => !a.estimate_sigma,
+    };
+    if gives_sigma {
+        for m in &methods {
+            if let Ok(c) = configure(m, &MethodOptions::default()) {
+                if c.defaults_only {
+                    eprintln!(
+                        "note: method '{m}' runs with its own default settings (noise level estimated \
+                         from the data); the other methods are given σ"
+                    );
+                }
+            }
+        }
+    }
     match (&a.input, a.trials) {
         (Some(path), _) => file_mode(&a, path.clone(), &methods),
         (None, Some(trials)) => sweep_mode(&a, trials, &methods),

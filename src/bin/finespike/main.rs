@@ -199,11 +199,18 @@ fn configure(args: &MethodArgs) -> Result<Box<dyn finespike::Estimator>, Failure
         )),
         other => Failure::Usage(other.to_string()),
     })?;
-    for what in &configured.unused {
+    if configured.defaults_only && args.sigma.is_some() {
         eprintln!(
-            "note: method '{}' does not use a {what}; --sigma is ignored",
+            "note: method '{}' runs with its own default settings here; --sigma is not passed on",
             args.method
         );
+    } else {
+        for what in &configured.unused {
+            eprintln!(
+                "note: method '{}' does not use a {what}; --sigma is ignored",
+                args.method
+            );
+        }
     }
     Ok(configured.estimator)
 }
