@@ -92,7 +92,7 @@ fn recover_prints_result_json() {
     // The summary goes to stderr, stdout stays JSON.
     let err = stderr(&out);
     for needle in [
-        "sdp: solved",
+        "sdp: solved (after",
         "σ = 0, exact data (as given)",
         "closest pair",
         "certificate",

@@ -124,6 +124,11 @@ fn envelope(points: Vec<(f64, f64)>, budget: usize) -> Vec<(f64, f64)> {
     out
 }
 
+/// "1 spike", "3 spikes".
+fn spikes(n: usize) -> String {
+    format!("{n} spike{}", if n == 1 { "" } else { "s" })
+}
+
 fn draw_err<E: std::fmt::Display>(e: E) -> Failure {
     Failure::Output(format!("cannot draw the plot: {e}"))
 }
@@ -180,20 +185,19 @@ fn caption(
         ),
         Domain::Time => format!("{} time samples (fc = (N-1)/2 = {fc})", data.len()),
     };
-    let sep = |s: Option<f64>| {
-        s.map_or_else(
-            || "a single spike".to_string(),
-            |x| format!("closest pair {x:.3}/fc apart (Rayleigh units)"),
-        )
+    let sep = |s: Option<f64>, count: usize| match (s, count) {
+        (Some(x), _) => format!("closest pair {x:.3}/fc apart (Rayleigh units)"),
+        (None, 0) => "so no separation to report".to_string(),
+        (None, _) => "no pair to measure a separation on".to_string(),
     };
     raw.push((
         format!(
-            "{}: {kind}. Method {}: {}, {} spikes recovered, {}.",
+            "{}: {kind}. Method {}: {}, {} recovered, {}.",
             file_name(&a.input),
             est.method,
             est.status,
-            est.spikes.len(),
-            sep(est.diagnostics.separation_fc)
+            spikes(est.spikes.len()),
+            sep(est.diagnostics.separation_fc, est.spikes.len())
         ),
         false,
     ));
@@ -221,10 +225,10 @@ fn caption(
     if let Some(t) = truth {
         let s = t.spikes.min_separation() * fc;
         let mut line = format!(
-            "Truth ({}): {} spikes, {}",
+            "Truth ({}): {}, {}",
             a.truth.as_deref().map_or_else(String::new, file_name),
-            t.spikes.len(),
-            sep(s.is_finite().then_some(s))
+            spikes(t.spikes.len()),
+            sep(s.is_finite().then_some(s), t.spikes.len())
         );
         if let Ok(score) = metrics::score(&est.spikes, &t.spikes, fc) {
             line.push_str(&format!(

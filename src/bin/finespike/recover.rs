@@ -83,13 +83,14 @@ fn list(values: &[f64], digits: usize) -> String {
 /// The readable summary of an estimate's diagnostics (several lines, each ending in a newline).
 pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> String {
     let d = &estimate.diagnostics;
+    let steps = match d.iterations {
+        0 => "direct method, no iterations".to_string(),
+        1 => "after 1 iteration".to_string(),
+        n => format!("after {n} iterations"),
+    };
     let mut out = format!(
-        "{}: {} after {} iteration{} in {:.3} s\n",
-        estimate.method,
-        estimate.status,
-        d.iterations,
-        if d.iterations == 1 { "" } else { "s" },
-        d.solve_seconds
+        "{}: {} ({steps}) in {:.3} s\n",
+        estimate.method, estimate.status, d.solve_seconds
     );
     let row = |out: &mut String, label: &str, text: String| {
         out.push_str(&format!("  {label:<12} {text}\n"));
