@@ -323,6 +323,9 @@ pub fn solve(data: &Measurements, problem: Problem, settings: &SfwSettings) -> R
     })
 }
 
+/// [`Diagnostics::solver`] of an estimate made by this module's solver.
+pub const SLIDING_FRANK_WOLFE: &str = "sliding Frank-Wolfe (certified)";
+
 /// Solve `problem` and turn the solution into an [`Estimate`] exactly as the SDP path does: support of
 /// the convex solution → shared post-processing (merge, least-squares amplitudes, floor, polish) →
 /// certificate of the dual polynomial against the final positions, warnings, diagnostics.
@@ -373,8 +376,8 @@ pub(crate) fn solve_tv(
     diagnostics.certificate = Some(cert);
     diagnostics.iterations = sol.iterations;
     diagnostics.objective = Some(sol.objective);
-    diagnostics.sigma = sigma;
-    diagnostics.sigma_estimated = sigma_estimated;
+    diagnostics.solver = Some(SLIDING_FRANK_WOLFE);
+    diagnostics.assess_noise(data, &spikes, sigma, sigma_estimated);
     diagnostics.solve_seconds = start.elapsed().as_secs_f64();
     Ok(Estimate {
         method,
@@ -420,27 +423,9 @@ impl Sfw {
     }
 }
 
-/// `(σ, estimated?)` for a noise level; `σ = None` means exact data. An estimated level
-/// ([`crate::noise::estimate_sigma`]) at rounding level relative to the data, `σ̂ < 1e-10·‖y‖/√|K|`,
-/// counts as exact data (the rule of the SDP path).
-///
-/// # Errors
-/// [`Error::InvalidSetting`] for an invalid known level; the estimator's errors for [`NoiseLevel::Estimate`].
-pub(crate) fn resolve_sigma(data: &Measurements, noise: NoiseLevel) -> Result<(Option<f64>, bool)> {
-    match noise.validated()? {
-        NoiseLevel::Exact => Ok((None, false)),
-        NoiseLevel::Known(s) => Ok(((s > 0.0).then_some(s), false)),
-        NoiseLevel::Estimate => {
-            let est = crate::noise::estimate_sigma(data)?;
-            let scale = data.norm() / (data.len() as f64).sqrt();
-            if est.sigma.is_nan() || est.sigma <= 1e-10 * scale {
-                Ok((None, true))
-            } else {
-                Ok((Some(est.sigma), true))
-            }
-        }
-    }
-}
+/// `(σ, estimated?)` for a noise level; `σ = None` means exact data (the rule shared by every
+/// estimator, [`crate::noise`]).
+pub(crate) use crate::noise::resolve_noise as resolve_sigma;
 
 impl Estimator for Sfw {
     fn name(&self) -> &'static str {
