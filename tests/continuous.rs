@@ -565,7 +565,13 @@ fn automatic_backend_matches_the_interior_point_above_the_switch() {
     let exact = scene.clone().generate().unwrap();
     let noisy = scene.with_snr_db(25.0).generate().unwrap();
     assert_eq!(exact.data.band_len(), AUTO_SWITCH_BAND_LEN + 1);
-    let pairs: [(&str, Box<dyn Estimator>, Box<dyn Estimator>, &Measurements); 3] = [
+    type Pair<'a> = (
+        &'a str,
+        Box<dyn Estimator>,
+        Box<dyn Estimator>,
+        &'a Measurements,
+    );
+    let pairs: [Pair; 3] = [
         (
             "exact",
             Box::new(Tv::exact()),
