@@ -56,7 +56,7 @@ pub use pencil::MatrixPencil;
 
 use crate::amplitudes;
 use crate::error::{Error, Result};
-use crate::estimator::{Diagnostics, Estimate, Status};
+use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status};
 use crate::model::{wrap, Measurements};
 use crate::refine::{refine, RefineSettings};
 use faer::c64;
@@ -104,6 +104,10 @@ pub struct SubspaceSettings {
     pub seed: u64,
     /// Local least-squares polish of positions and amplitudes (default `None`: the classical method).
     pub refine: Option<RefineSettings>,
+    /// Noise level for the diagnostics (residual check and plug-in Cramér–Rao bound; the estimate
+    /// itself does not use it). Default: estimated from the data ([`crate::noise::estimate_sigma`]);
+    /// records too short to estimate it are reported without.
+    pub noise: NoiseLevel,
 }
 
 impl Default for SubspaceSettings {
@@ -119,6 +123,7 @@ impl Default for SubspaceSettings {
             power_iterations: 2,
             seed: 0,
             refine: None,
+            noise: NoiseLevel::Estimate,
         }
     }
 }
@@ -224,6 +229,15 @@ impl SubspaceSettings {
     pub fn with_seed(mut self, seed: u64) -> Self {
         self.seed = seed;
         self
+    }
+
+    /// Set the noise level used by the diagnostics.
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] for a negative or non-finite known level.
+    pub fn with_noise(mut self, noise: NoiseLevel) -> Result<Self> {
+        self.noise = noise.validated()?;
+        Ok(self)
     }
 
     /// Turn the least-squares polish on (with these settings) or off (`None`, the default).
@@ -448,6 +462,13 @@ pub(crate) fn run(
     let mut diagnostics = Diagnostics::describe(data, &spikes);
     diagnostics.iterations = power_iterations + refine_steps;
     diagnostics.model_order = Some(prepared.order);
+    let (sigma, estimated) = match crate::noise::resolve_noise(data, settings.noise) {
+        Ok(level) => level,
+        // Too short a record to estimate σ: no noise assessment (it is optional here).
+        Err(Error::Unsupported { .. }) => (None, false),
+        Err(e) => return Err(e),
+    };
+    diagnostics.assess_noise(data, &spikes, sigma, estimated);
     diagnostics.solve_seconds = prepared.start.elapsed().as_secs_f64();
     Ok(Estimate {
         method: method.name(),
