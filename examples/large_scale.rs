@@ -12,49 +12,8 @@
 //! Run under `/usr/bin/time -v` for the peak memory (maximum resident set size).
 use finespike::continuous::Sfw;
 use finespike::greedy::Greedy;
-use finespike::{Backend, Estimator, Measurements, Scenario, SdpSettings, Tv};
-use num_complex::Complex64;
-use rand::rngs::StdRng;
-use rand::{Rng, SeedableRng};
-use rand_distr::StandardNormal;
+use finespike::{Backend, Estimator, Scenario, SdpSettings, Tv};
 use std::time::Instant;
-
-/// `n` time samples of `count` lines at least 2/fc apart (fc = (n − 1)/2), unit-modulus-or-larger
-/// amplitudes, complex white Gaussian noise at `snr_db` for the weakest line. Returns data and σ.
-pub fn line_record(n: usize, count: usize, snr_db: f64, seed: u64) -> (Measurements, f64) {
-    let fc = (n - 1) as f64 / 2.0;
-    let scene = Scenario::new(n / 2, count)
-        .with_separation(2.0 * (n / 2) as f64 / fc)
-        .with_seed(seed)
-        .generate()
-        .expect("scene");
-    let amin = scene
-        .truth
-        .iter()
-        .map(|s| s.amplitude.norm())
-        .fold(f64::INFINITY, f64::min);
-    let sigma = amin * 10f64.powf(-snr_db / 20.0);
-    let mut rng = StdRng::seed_from_u64(seed ^ 0x5eed);
-    let s = sigma / std::f64::consts::SQRT_2;
-    let x: Vec<Complex64> = (0..n)
-        .map(|t| {
-            let clean: Complex64 = scene
-                .truth
-                .iter()
-                .map(|l| {
-                    l.amplitude
-                        * Complex64::from_polar(
-                            1.0,
-                            2.0 * std::f64::consts::PI * l.position * t as f64,
-                        )
-                })
-                .sum();
-            let (re, im): (f64, f64) = (rng.sample(StandardNormal), rng.sample(StandardNormal));
-            clean + Complex64::new(s * re, s * im)
-        })
-        .collect();
-    (Measurements::from_time_samples(&x).expect("samples"), sigma)
-}
 
 /// Peak resident set size of this process, in MB (`VmHWM` of `/proc/self/status`; Linux only).
 fn peak_memory_mb() -> Option<f64> {
@@ -97,7 +56,13 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         }
         "greedy" => {
             let count: usize = args.get(3).map(|s| s.parse()).transpose()?.unwrap_or(20);
-            let (data, sigma) = line_record(size, count, 30.0, 5);
+            // An invented record: `size` time samples, lines at least 2/fc apart, 30 dB.
+            let scene = Scenario::time_record(size, count)
+                .with_separation(2.0)
+                .with_snr_db(30.0)
+                .with_seed(5)
+                .generate()?;
+            let (data, sigma) = (scene.data, scene.sigma);
             let t = Instant::now();
             let e = Greedy::with_sigma(sigma).estimate(&data)?;
             println!(
