@@ -62,7 +62,7 @@ mod sfw;
 pub(crate) mod slide;
 
 use crate::dual::{Certificate, DualPolynomial};
-use crate::error::{Error, Result};
+use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
 use crate::model::{Measurements, Spikes};
 use crate::postprocess::PostProcess;
@@ -92,12 +92,12 @@ pub enum Problem {
 impl Problem {
     fn validated(self) -> Result<Self> {
         match self {
-            Problem::Constrained { delta } if !(delta.is_finite() && delta >= 0.0) => Err(invalid(
+            Problem::Constrained { delta } if !(delta.is_finite() && delta >= 0.0) => Err(Error::invalid(
                 "delta",
                 delta,
                 "the radius must be finite and non-negative",
             )),
-            Problem::Penalised { lambda } if !(lambda.is_finite() && lambda > 0.0) => Err(invalid(
+            Problem::Penalised { lambda } if !(lambda.is_finite() && lambda > 0.0) => Err(Error::invalid(
                 "lambda",
                 lambda,
                 "the weight must be positive and finite",
@@ -107,13 +107,6 @@ impl Problem {
     }
 }
 
-fn invalid(name: &'static str, value: impl ToString, rule: &'static str) -> Error {
-    Error::InvalidSetting {
-        name,
-        value: value.to_string(),
-        rule,
-    }
-}
 
 /// Settings of the Sliding Frank–Wolfe solver. The defaults certify double-precision solutions of the
 /// test and demo problems and need no tuning.
@@ -172,9 +165,7 @@ impl SfwSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] for 0.
     pub fn with_max_iter(mut self, max_iter: usize) -> Result<Self> {
-        if max_iter == 0 {
-            return Err(invalid("max_iter", max_iter, "must be at least 1"));
-        }
+        check::iterations("max_iter", max_iter)?;
         self.max_iter = max_iter;
         Ok(self)
     }
@@ -185,7 +176,7 @@ impl SfwSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_tolerance(mut self, tolerance: f64) -> Result<Self> {
         if !(1e-14..=1e-3).contains(&tolerance) {
-            return Err(invalid("tolerance", tolerance, "must lie in [1e-14, 1e-3]"));
+            return Err(Error::invalid("tolerance", tolerance, "must lie in [1e-14, 1e-3]"));
         }
         self.tolerance = tolerance;
         Ok(self)
@@ -196,10 +187,7 @@ impl SfwSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] for zero, negative or NaN.
     pub fn with_time_limit(mut self, seconds: f64) -> Result<Self> {
-        if seconds.is_nan() || seconds <= 0.0 {
-            return Err(invalid("time_limit", seconds, "must be positive"));
-        }
-        self.time_limit = seconds;
+        self.time_limit = check::seconds("time_limit", seconds)?;
         Ok(self)
     }
 
@@ -209,7 +197,7 @@ impl SfwSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_grid_oversample(mut self, oversample: usize) -> Result<Self> {
         if !(8..=64).contains(&oversample) {
-            return Err(invalid("grid_oversample", oversample, "must lie in 8..=64"));
+            return Err(Error::invalid("grid_oversample", oversample, "must lie in 8..=64"));
         }
         self.grid_oversample = oversample;
         Ok(self)
@@ -221,7 +209,7 @@ impl SfwSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_weak_margin(mut self, margin: f64) -> Result<Self> {
         if !(margin > 0.0 && margin < 0.5) {
-            return Err(invalid("weak_margin", margin, "must lie in (0, 0.5)"));
+            return Err(Error::invalid("weak_margin", margin, "must lie in (0, 0.5)"));
         }
         self.weak_margin = margin;
         Ok(self)

@@ -31,7 +31,7 @@ pub(crate) mod compact;
 
 use crate::continuous::{self, Problem, SfwSettings};
 use crate::dual::DualPolynomial;
-use crate::error::{Error, Result};
+use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
 use crate::model::Measurements;
 use crate::postprocess::PostProcess;
@@ -113,9 +113,7 @@ impl SdpSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] for 0.
     pub fn with_max_iter(mut self, max_iter: u32) -> Result<Self> {
-        if max_iter == 0 {
-            return Err(invalid("max_iter", max_iter, "must be at least 1"));
-        }
+        check::iterations("max_iter", max_iter as usize)?;
         self.max_iter = max_iter;
         Ok(self)
     }
@@ -126,7 +124,7 @@ impl SdpSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_tolerance(mut self, tolerance: f64) -> Result<Self> {
         if !(tolerance > 0.0 && tolerance <= 1e-2) {
-            return Err(invalid("tolerance", tolerance, "must lie in (0, 1e-2]"));
+            return Err(Error::invalid("tolerance", tolerance, "must lie in (0, 1e-2]"));
         }
         self.tolerance = tolerance;
         Ok(self)
@@ -137,10 +135,7 @@ impl SdpSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] for zero, negative or NaN.
     pub fn with_time_limit(mut self, seconds: f64) -> Result<Self> {
-        if seconds.is_nan() || seconds <= 0.0 {
-            return Err(invalid("time_limit", seconds, "must be positive"));
-        }
-        self.time_limit = seconds;
+        self.time_limit = check::seconds("time_limit", seconds)?;
         Ok(self)
     }
 
@@ -150,7 +145,7 @@ impl SdpSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_support_tolerance(mut self, tol: f64) -> Result<Self> {
         if !(tol > 0.0 && tol < 0.5) {
-            return Err(invalid("support_tolerance", tol, "must lie in (0, 0.5)"));
+            return Err(Error::invalid("support_tolerance", tol, "must lie in (0, 0.5)"));
         }
         self.support_tolerance = tol;
         Ok(self)
@@ -222,13 +217,6 @@ fn run(
     )
 }
 
-fn invalid(name: &'static str, value: impl ToString, rule: &'static str) -> Error {
-    Error::InvalidSetting {
-        name,
-        value: value.to_string(),
-        rule,
-    }
-}
 
 /// What the solve reports besides the dual polynomial.
 struct SolveReport {
@@ -431,7 +419,7 @@ impl Ast {
     /// [`Error::InvalidSetting`] otherwise.
     pub fn with_eta(mut self, eta: f64) -> Result<Self> {
         if !(eta.is_finite() && eta > 0.0) {
-            return Err(invalid("eta", eta, "must be positive and finite"));
+            return Err(Error::invalid("eta", eta, "must be positive and finite"));
         }
         self.eta = eta;
         Ok(self)

@@ -128,13 +128,6 @@ impl Default for SubspaceSettings {
     }
 }
 
-fn invalid(name: &'static str, value: impl ToString, rule: &'static str) -> Error {
-    Error::InvalidSetting {
-        name,
-        value: value.to_string(),
-        rule,
-    }
-}
 
 impl SubspaceSettings {
     /// Set the window `L` (rows of the Hankel matrix), at least 2; it must also be at most `N`
@@ -144,7 +137,7 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] for `L < 2`.
     pub fn with_window(mut self, rows: usize) -> Result<Self> {
         if rows < 2 {
-            return Err(invalid("window", rows, "the window L must be at least 2"));
+            return Err(Error::invalid("window", rows, "the window L must be at least 2"));
         }
         self.window = Some(rows);
         Ok(self)
@@ -177,7 +170,7 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] for 0.
     pub fn with_max_order(mut self, max_order: usize) -> Result<Self> {
         if max_order == 0 {
-            return Err(invalid("max_order", max_order, "must be at least 1"));
+            return Err(Error::invalid("max_order", max_order, "must be at least 1"));
         }
         self.max_order = Some(max_order);
         Ok(self)
@@ -189,7 +182,7 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] below 2.
     pub fn with_order_window(mut self, rows: usize) -> Result<Self> {
         if rows < 2 {
-            return Err(invalid("order_window", rows, "must be at least 2"));
+            return Err(Error::invalid("order_window", rows, "must be at least 2"));
         }
         self.order_window = rows;
         Ok(self)
@@ -207,7 +200,7 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_oversampling(mut self, extra: usize) -> Result<Self> {
         if !(1..=100).contains(&extra) {
-            return Err(invalid("oversampling", extra, "must lie in 1..=100"));
+            return Err(Error::invalid("oversampling", extra, "must lie in 1..=100"));
         }
         self.oversampling = extra;
         Ok(self)
@@ -219,7 +212,7 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] above 20.
     pub fn with_power_iterations(mut self, q: usize) -> Result<Self> {
         if q > 20 {
-            return Err(invalid("power_iterations", q, "must lie in 0..=20"));
+            return Err(Error::invalid("power_iterations", q, "must lie in 0..=20"));
         }
         self.power_iterations = q;
         Ok(self)
