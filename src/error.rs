@@ -126,6 +126,14 @@ pub(crate) mod check {
         Ok(n)
     }
 
+    /// A value that must satisfy `ok` (NaN fails every range test written as `lo <= v`).
+    pub(crate) fn that(name: &'static str, v: f64, ok: bool, rule: &'static str) -> Result<f64> {
+        if !ok || v.is_nan() {
+            return Err(Error::invalid(name, v, rule));
+        }
+        Ok(v)
+    }
+
     /// A time limit in seconds: positive (`f64::INFINITY` for none).
     pub(crate) fn seconds(name: &'static str, s: f64) -> Result<f64> {
         if s.is_nan() || s <= 0.0 {

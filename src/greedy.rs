@@ -62,7 +62,6 @@ impl Default for GreedySettings {
     }
 }
 
-
 impl GreedySettings {
     /// Set the iteration limit (at least 1).
     ///
@@ -80,7 +79,11 @@ impl GreedySettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_grid_oversample(mut self, oversample: usize) -> Result<Self> {
         if !(8..=64).contains(&oversample) {
-            return Err(Error::invalid("grid_oversample", oversample, "must lie in 8..=64"));
+            return Err(Error::invalid(
+                "grid_oversample",
+                oversample,
+                "must lie in 8..=64",
+            ));
         }
         self.grid_oversample = oversample;
         Ok(self)
@@ -108,7 +111,11 @@ impl GreedySettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_merge_distance_fc(mut self, d: f64) -> Result<Self> {
         if !(0.0..=0.5).contains(&d) {
-            return Err(Error::invalid("merge_distance_fc", d, "must lie in [0, 0.5]"));
+            return Err(Error::invalid(
+                "merge_distance_fc",
+                d,
+                "must lie in [0, 0.5]",
+            ));
         }
         self.merge_distance_fc = d;
         Ok(self)

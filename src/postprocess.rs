@@ -20,7 +20,7 @@
 //! 4-sigma detection level).
 
 use crate::amplitudes;
-use crate::error::{Error, Result};
+use crate::error::{check, Result};
 use crate::model::{wrap, wrap_difference, Measurements, Spikes};
 use crate::refine::{refine, RefineSettings};
 
@@ -59,48 +59,42 @@ impl PostProcess {
     /// Set the merge distance in Rayleigh units, in `[0, 0.5]`.
     ///
     /// # Errors
-    /// [`Error::InvalidSetting`] outside that range.
+    /// [`crate::Error::InvalidSetting`] outside that range.
     pub fn with_merge_distance_fc(mut self, d: f64) -> Result<Self> {
-        if !(0.0..=0.5).contains(&d) {
-            return Err(Error::InvalidSetting {
-                name: "merge_distance_fc",
-                value: d.to_string(),
-                rule: "must lie in [0, 0.5]",
-            });
-        }
-        self.merge_distance_fc = d;
+        self.merge_distance_fc = check::that(
+            "merge_distance_fc",
+            d,
+            (0.0..=0.5).contains(&d),
+            "must lie in [0, 0.5]",
+        )?;
         Ok(self)
     }
 
     /// Set the noise floor in units of `σ/√|K|` (non-negative).
     ///
     /// # Errors
-    /// [`Error::InvalidSetting`] for a negative or NaN value.
+    /// [`crate::Error::InvalidSetting`] for a negative or NaN value.
     pub fn with_floor_sigmas(mut self, k: f64) -> Result<Self> {
-        if k.is_nan() || k < 0.0 {
-            return Err(Error::InvalidSetting {
-                name: "floor_sigmas",
-                value: k.to_string(),
-                rule: "must be non-negative",
-            });
-        }
-        self.floor_sigmas = k;
+        self.floor_sigmas = check::that(
+            "floor_sigmas",
+            k,
+            !(k.is_nan() || k < 0.0),
+            "must be non-negative",
+        )?;
         Ok(self)
     }
 
     /// Set the neighbourhood of the significance test in Rayleigh units, in `[0, 4]` (0: no test).
     ///
     /// # Errors
-    /// [`Error::InvalidSetting`] outside that range.
+    /// [`crate::Error::InvalidSetting`] outside that range.
     pub fn with_neighbour_fc(mut self, d: f64) -> Result<Self> {
-        if !(0.0..=4.0).contains(&d) {
-            return Err(Error::InvalidSetting {
-                name: "neighbour_fc",
-                value: d.to_string(),
-                rule: "must lie in [0, 4]",
-            });
-        }
-        self.neighbour_fc = d;
+        self.neighbour_fc = check::that(
+            "neighbour_fc",
+            d,
+            (0.0..=4.0).contains(&d),
+            "must lie in [0, 4]",
+        )?;
         Ok(self)
     }
 

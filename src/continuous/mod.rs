@@ -92,21 +92,16 @@ pub enum Problem {
 impl Problem {
     fn validated(self) -> Result<Self> {
         match self {
-            Problem::Constrained { delta } if !(delta.is_finite() && delta >= 0.0) => Err(Error::invalid(
-                "delta",
-                delta,
-                "the radius must be finite and non-negative",
-            )),
-            Problem::Penalised { lambda } if !(lambda.is_finite() && lambda > 0.0) => Err(Error::invalid(
-                "lambda",
-                lambda,
-                "the weight must be positive and finite",
-            )),
+            Problem::Constrained { delta } if !(delta.is_finite() && delta >= 0.0) => Err(
+                Error::invalid("delta", delta, "the radius must be finite and non-negative"),
+            ),
+            Problem::Penalised { lambda } if !(lambda.is_finite() && lambda > 0.0) => Err(
+                Error::invalid("lambda", lambda, "the weight must be positive and finite"),
+            ),
             p => Ok(p),
         }
     }
 }
-
 
 /// Settings of the Sliding Frank–Wolfe solver. The defaults certify double-precision solutions of the
 /// test and demo problems and need no tuning.
@@ -176,7 +171,11 @@ impl SfwSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_tolerance(mut self, tolerance: f64) -> Result<Self> {
         if !(1e-14..=1e-3).contains(&tolerance) {
-            return Err(Error::invalid("tolerance", tolerance, "must lie in [1e-14, 1e-3]"));
+            return Err(Error::invalid(
+                "tolerance",
+                tolerance,
+                "must lie in [1e-14, 1e-3]",
+            ));
         }
         self.tolerance = tolerance;
         Ok(self)
@@ -197,7 +196,11 @@ impl SfwSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_grid_oversample(mut self, oversample: usize) -> Result<Self> {
         if !(8..=64).contains(&oversample) {
-            return Err(Error::invalid("grid_oversample", oversample, "must lie in 8..=64"));
+            return Err(Error::invalid(
+                "grid_oversample",
+                oversample,
+                "must lie in 8..=64",
+            ));
         }
         self.grid_oversample = oversample;
         Ok(self)
@@ -209,7 +212,11 @@ impl SfwSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_weak_margin(mut self, margin: f64) -> Result<Self> {
         if !(margin > 0.0 && margin < 0.5) {
-            return Err(Error::invalid("weak_margin", margin, "must lie in (0, 0.5)"));
+            return Err(Error::invalid(
+                "weak_margin",
+                margin,
+                "must lie in (0, 0.5)",
+            ));
         }
         self.weak_margin = margin;
         Ok(self)

@@ -124,7 +124,11 @@ impl SdpSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_tolerance(mut self, tolerance: f64) -> Result<Self> {
         if !(tolerance > 0.0 && tolerance <= 1e-2) {
-            return Err(Error::invalid("tolerance", tolerance, "must lie in (0, 1e-2]"));
+            return Err(Error::invalid(
+                "tolerance",
+                tolerance,
+                "must lie in (0, 1e-2]",
+            ));
         }
         self.tolerance = tolerance;
         Ok(self)
@@ -145,7 +149,11 @@ impl SdpSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_support_tolerance(mut self, tol: f64) -> Result<Self> {
         if !(tol > 0.0 && tol < 0.5) {
-            return Err(Error::invalid("support_tolerance", tol, "must lie in (0, 0.5)"));
+            return Err(Error::invalid(
+                "support_tolerance",
+                tol,
+                "must lie in (0, 0.5)",
+            ));
         }
         self.support_tolerance = tol;
         Ok(self)
@@ -216,7 +224,6 @@ fn run(
         start,
     )
 }
-
 
 /// What the solve reports besides the dual polynomial.
 struct SolveReport {

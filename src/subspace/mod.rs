@@ -128,7 +128,6 @@ impl Default for SubspaceSettings {
     }
 }
 
-
 impl SubspaceSettings {
     /// Set the window `L` (rows of the Hankel matrix), at least 2; it must also be at most `N`
     /// (checked when estimating).
@@ -137,7 +136,11 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] for `L < 2`.
     pub fn with_window(mut self, rows: usize) -> Result<Self> {
         if rows < 2 {
-            return Err(Error::invalid("window", rows, "the window L must be at least 2"));
+            return Err(Error::invalid(
+                "window",
+                rows,
+                "the window L must be at least 2",
+            ));
         }
         self.window = Some(rows);
         Ok(self)
