@@ -6,10 +6,6 @@ use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use finespike::continuous::Sfw;
 use finespike::greedy::Greedy;
 use finespike::{Estimator, Measurements, Scenario};
-use num_complex::Complex64;
-use rand::rngs::StdRng;
-use rand::{Rng, SeedableRng};
-use rand_distr::StandardNormal;
 use std::time::Duration;
 
 const FCS: [usize; 5] = [32, 128, 512, 2048, 4096];
@@ -52,40 +48,15 @@ fn sfw_constrained(c: &mut Criterion) {
 }
 
 /// `n` time samples of `count` lines at least 2/fc apart (fc = (n − 1)/2), complex white Gaussian noise
-/// at `snr_db` for the weakest line; returns the data and σ.
+/// at `snr_db` for the weakest line (an invented, seeded scene); returns the data and σ.
 fn line_record(n: usize, count: usize, snr_db: f64, seed: u64) -> (Measurements, f64) {
-    let fc = (n - 1) as f64 / 2.0;
-    let scene = Scenario::new(n / 2, count)
-        .with_separation(2.0 * (n / 2) as f64 / fc)
+    let scene = Scenario::time_record(n, count)
+        .with_separation(2.0)
+        .with_snr_db(snr_db)
         .with_seed(seed)
         .generate()
         .expect("scene");
-    let amin = scene
-        .truth
-        .iter()
-        .map(|s| s.amplitude.norm())
-        .fold(f64::INFINITY, f64::min);
-    let sigma = amin * 10f64.powf(-snr_db / 20.0);
-    let mut rng = StdRng::seed_from_u64(seed ^ 0x5eed);
-    let s = sigma / std::f64::consts::SQRT_2;
-    let x: Vec<Complex64> = (0..n)
-        .map(|t| {
-            let clean: Complex64 = scene
-                .truth
-                .iter()
-                .map(|l| {
-                    l.amplitude
-                        * Complex64::from_polar(
-                            1.0,
-                            2.0 * std::f64::consts::PI * l.position * t as f64,
-                        )
-                })
-                .sum();
-            let (re, im): (f64, f64) = (rng.sample(StandardNormal), rng.sample(StandardNormal));
-            clean + Complex64::new(s * re, s * im)
-        })
-        .collect();
-    (Measurements::from_time_samples(&x).expect("samples"), sigma)
+    (scene.data, scene.sigma)
 }
 
 fn greedy(c: &mut Criterion) {

@@ -5,53 +5,22 @@
 //! cargo run --release --example large_scale -- sfw 512         # exact data, fc = 512, 10 spikes
 //! cargo run --release --example large_scale -- sfw-noisy 4096   # 30 dB, constrained TV
 //! cargo run --release --example large_scale -- greedy 4096      # N = 4096 time samples, 20 lines, 30 dB
+//! cargo run --release --example large_scale -- interior-point 32 # sdp through clarabel: time, peak memory
+//! cargo run --release --example large_scale -- sliding 512       # sdp through Sliding Frank–Wolfe
 //! ```
 //!
 //! Run under `/usr/bin/time -v` for the peak memory (maximum resident set size).
 use finespike::continuous::Sfw;
 use finespike::greedy::Greedy;
-use finespike::{Estimator, Measurements, Scenario};
-use num_complex::Complex64;
-use rand::rngs::StdRng;
-use rand::{Rng, SeedableRng};
-use rand_distr::StandardNormal;
+use finespike::{Backend, Estimator, Scenario, SdpSettings, Tv};
 use std::time::Instant;
 
-/// `n` time samples of `count` lines at least 2/fc apart (fc = (n − 1)/2), unit-modulus-or-larger
-/// amplitudes, complex white Gaussian noise at `snr_db` for the weakest line. Returns data and σ.
-pub fn line_record(n: usize, count: usize, snr_db: f64, seed: u64) -> (Measurements, f64) {
-    let fc = (n - 1) as f64 / 2.0;
-    let scene = Scenario::new(n / 2, count)
-        .with_separation(2.0 * (n / 2) as f64 / fc)
-        .with_seed(seed)
-        .generate()
-        .expect("scene");
-    let amin = scene
-        .truth
-        .iter()
-        .map(|s| s.amplitude.norm())
-        .fold(f64::INFINITY, f64::min);
-    let sigma = amin * 10f64.powf(-snr_db / 20.0);
-    let mut rng = StdRng::seed_from_u64(seed ^ 0x5eed);
-    let s = sigma / std::f64::consts::SQRT_2;
-    let x: Vec<Complex64> = (0..n)
-        .map(|t| {
-            let clean: Complex64 = scene
-                .truth
-                .iter()
-                .map(|l| {
-                    l.amplitude
-                        * Complex64::from_polar(
-                            1.0,
-                            2.0 * std::f64::consts::PI * l.position * t as f64,
-                        )
-                })
-                .sum();
-            let (re, im): (f64, f64) = (rng.sample(StandardNormal), rng.sample(StandardNormal));
-            clean + Complex64::new(s * re, s * im)
-        })
-        .collect();
-    (Measurements::from_time_samples(&x).expect("samples"), sigma)
+/// Peak resident set size of this process, in MB (`VmHWM` of `/proc/self/status`; Linux only).
+fn peak_memory_mb() -> Option<f64> {
+    let status = std::fs::read_to_string("/proc/self/status").ok()?;
+    let line = status.lines().find(|l| l.starts_with("VmHWM:"))?;
+    let kb: f64 = line.split_whitespace().nth(1)?.parse().ok()?;
+    Some(kb / 1024.0)
 }
 
 fn main() -> Result<(), Box<dyn std::error::Error>> {
@@ -87,7 +56,13 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         }
         "greedy" => {
             let count: usize = args.get(3).map(|s| s.parse()).transpose()?.unwrap_or(20);
-            let (data, sigma) = line_record(size, count, 30.0, 5);
+            // An invented record: `size` time samples, lines at least 2/fc apart, 30 dB.
+            let scene = Scenario::time_record(size, count)
+                .with_separation(2.0)
+                .with_snr_db(30.0)
+                .with_seed(5)
+                .generate()?;
+            let (data, sigma) = (scene.data, scene.sigma);
             let t = Instant::now();
             let e = Greedy::with_sigma(sigma).estimate(&data)?;
             println!(
@@ -97,50 +72,38 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 e.spikes.len()
             );
         }
-        "crossover" => {
-            // Wall-clock of the clarabel path against sfw on the same scenes (fc/4 spikes, 2/fc apart,
-            // as benches/recovery.rs), exact, constrained (25 dB) and AST (25 dB).
-            for fc in [8usize, 12, 16, 20, 24, 32] {
-                let exact = Scenario::new(fc, (fc / 4).max(1))
-                    .with_separation(2.0)
-                    .with_seed(11)
-                    .generate()?;
-                let noisy = Scenario::new(fc, (fc / 4).max(1))
-                    .with_separation(2.0)
-                    .with_snr_db(25.0)
-                    .with_seed(11)
-                    .generate()?;
-                let time = |e: &dyn Estimator, d: &Measurements| -> Result<f64, finespike::Error> {
-                    let t = Instant::now();
-                    e.estimate(d)?;
-                    Ok(t.elapsed().as_secs_f64())
-                };
-                let ast = finespike::Ast::with_sigma(noisy.sigma);
-                let tau = ast.tau(noisy.sigma, noisy.data.len());
-                let t = Instant::now();
-                let sol = finespike::continuous::solve(
-                    &noisy.data,
-                    finespike::continuous::Problem::Penalised { lambda: tau },
-                    &finespike::SfwSettings::default(),
-                )?;
-                finespike::PostProcess::default().apply(
-                    &noisy.data,
-                    &sol.spikes.positions(),
-                    Some(noisy.sigma),
-                )?;
-                let sfw_ast = t.elapsed().as_secs_f64();
-                println!(
-                    "fc {fc:3}: exact sdp {:.4} s sfw {:.4} s | constrained sdp {:.4} s sfw {:.4} s | ast sdp {:.4} s sfw {:.4} s",
-                    time(&finespike::Tv::exact(), &exact.data)?,
-                    time(&Sfw::exact(), &exact.data)?,
-                    time(&finespike::Tv::with_sigma(noisy.sigma), &noisy.data)?,
-                    time(&Sfw::with_sigma(noisy.sigma), &noisy.data)?,
-                    time(&ast, &noisy.data)?,
-                    sfw_ast,
-                );
-            }
+        "interior-point" | "sliding" => {
+            // One backend of `sdp` on the scene of benches/recovery.rs (fc/4 spikes, at least one and
+            // at most 128, 2/fc apart, exact data): wall-clock and the peak resident memory of this
+            // process (one solve per process, so the figures do not mix).
+            let backend = if what == "sliding" {
+                Backend::SlidingFrankWolfe
+            } else {
+                Backend::InteriorPoint
+            };
+            let count = (size / 4).clamp(1, 128);
+            let sample = Scenario::new(size, count)
+                .with_separation(2.0)
+                .with_seed(11)
+                .generate()?;
+            let estimator = Tv::exact().with_settings(SdpSettings::default().with_backend(backend));
+            let t = Instant::now();
+            let e = estimator.estimate(&sample.data)?;
+            let seconds = t.elapsed().as_secs_f64();
+            println!(
+                "{what} fc {size} (N = {}), {count} spikes: {seconds:.4} s, peak {} MB, status {}, {} spikes",
+                2 * size + 1,
+                peak_memory_mb().map_or("n/a".to_string(), |m| format!("{m:.0}")),
+                e.status,
+                e.spikes.len(),
+            );
         }
-        other => return Err(format!("unknown mode {other}: use sfw, sfw-noisy or greedy").into()),
+        other => {
+            return Err(format!(
+                "unknown mode {other}: use sfw, sfw-noisy, greedy, interior-point or sliding"
+            )
+            .into())
+        }
     }
     Ok(())
 }

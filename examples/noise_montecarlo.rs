@@ -7,73 +7,11 @@
 //! of trials with a spurious line. Run with
 //! `cargo run --release --example noise_montecarlo -- [trials]` (default 200).
 
-use finespike::metrics::score;
-use finespike::{crb_for, AmplitudeKind, Ast, Estimator, Measurements, Scenario, Tv};
-use num_complex::Complex64;
-use rand::rngs::StdRng;
-use rand::{Rng, SeedableRng};
-use rand_distr::StandardNormal;
+#[path = "../tests/common/montecarlo.rs"]
+mod montecarlo;
 
-/// Figures of one method at one SNR.
-struct Row {
-    /// Position RMSE / √CRB per true line.
-    ratio: Vec<f64>,
-    /// Total missed lines over all trials.
-    missed: usize,
-    /// Fraction of trials with at least one spurious line.
-    spurious_rate: f64,
-}
-
-fn run(
-    method: &dyn Estimator,
-    clean: &Measurements,
-    truth: &finespike::Spikes,
-    sigma: f64,
-    trials: usize,
-    seed: u64,
-) -> Row {
-    let truth_fc = clean.fc();
-    let mut rng = StdRng::seed_from_u64(seed);
-    let exact: Vec<Complex64> = clean.values().to_vec();
-    let mut sq = Vec::new();
-    let mut missed = 0;
-    let mut spurious_trials = 0;
-    for _ in 0..trials {
-        let noisy: Vec<Complex64> = exact
-            .iter()
-            .map(|v| {
-                let re: f64 = rng.sample(StandardNormal);
-                let im: f64 = rng.sample(StandardNormal);
-                v + Complex64::new(re, im) * (sigma / std::f64::consts::SQRT_2)
-            })
-            .collect();
-        let data = clean.with_values(&noisy).expect("finite samples");
-        let est = method.estimate(&data).expect("estimate");
-        let s = score(&est.spikes, truth, truth_fc).expect("score");
-        missed += s.missed;
-        if s.spurious > 0 {
-            spurious_trials += 1;
-        }
-        if sq.is_empty() {
-            sq = vec![(0.0, 0usize); truth.len()];
-        }
-        for m in &s.pairs {
-            sq[m.truth_index].0 += m.position_error * m.position_error;
-            sq[m.truth_index].1 += 1;
-        }
-    }
-    let bound = crb_for(clean, truth, sigma).expect("crb");
-    let ratio = sq
-        .iter()
-        .zip(&bound.per_spike)
-        .map(|(&(s, n), b)| (s / n.max(1) as f64).sqrt() / b.std_position)
-        .collect();
-    Row {
-        ratio,
-        missed,
-        spurious_rate: spurious_trials as f64 / trials as f64,
-    }
-}
+use finespike::{AmplitudeKind, Ast, Estimator, Scenario, Tv};
+use montecarlo::run;
 
 fn main() {
     let trials: usize = std::env::args()

@@ -102,3 +102,43 @@ pub enum Error {
 
 /// Shorthand for `Result<T, finespike::Error>`.
 pub type Result<T> = std::result::Result<T, Error>;
+
+impl Error {
+    /// [`Error::InvalidSetting`] for setting `name` of value `value` that broke `rule`.
+    pub(crate) fn invalid(name: &'static str, value: impl ToString, rule: &'static str) -> Self {
+        Error::InvalidSetting {
+            name,
+            value: value.to_string(),
+            rule,
+        }
+    }
+}
+
+/// Checks shared by the settings setters of every estimator.
+pub(crate) mod check {
+    use super::{Error, Result};
+
+    /// An iteration limit: at least 1.
+    pub(crate) fn iterations(name: &'static str, n: usize) -> Result<usize> {
+        if n == 0 {
+            return Err(Error::invalid(name, n, "must be at least 1"));
+        }
+        Ok(n)
+    }
+
+    /// A value that must satisfy `ok` (NaN fails every range test written as `lo <= v`).
+    pub(crate) fn that(name: &'static str, v: f64, ok: bool, rule: &'static str) -> Result<f64> {
+        if !ok || v.is_nan() {
+            return Err(Error::invalid(name, v, rule));
+        }
+        Ok(v)
+    }
+
+    /// A time limit in seconds: positive (`f64::INFINITY` for none).
+    pub(crate) fn seconds(name: &'static str, s: f64) -> Result<f64> {
+        if s.is_nan() || s <= 0.0 {
+            return Err(Error::invalid(name, s, "must be positive"));
+        }
+        Ok(s)
+    }
+}

@@ -243,6 +243,9 @@ impl Serialize for Warning {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 #[non_exhaustive]
 pub struct Diagnostics {
+    /// The numerical solver behind a convex estimate (`None` for the other methods), e.g. the
+    /// interior point or Sliding Frank–Wolfe for `sdp` and `ast` (see [`crate::sdp::Backend`]).
+    pub solver: Option<&'static str>,
     /// Solver iterations (0 for direct methods).
     pub iterations: usize,
     /// Wall-clock time of the estimate, in seconds.
@@ -291,6 +294,7 @@ impl Diagnostics {
             }
         }
         Diagnostics {
+            solver: None,
             iterations: 0,
             solve_seconds: 0.0,
             objective: None,

@@ -25,7 +25,7 @@ use crate::continuous::kernel::Model;
 use crate::continuous::lasso::least_squares;
 use crate::continuous::resolve_sigma;
 use crate::continuous::slide::{slide, Point};
-use crate::error::{Error, Result};
+use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
 use crate::model::{wrap, Measurements};
 use crate::refine::{refine, RefineSettings};
@@ -62,23 +62,13 @@ impl Default for GreedySettings {
     }
 }
 
-fn invalid(name: &'static str, value: impl ToString, rule: &'static str) -> Error {
-    Error::InvalidSetting {
-        name,
-        value: value.to_string(),
-        rule,
-    }
-}
-
 impl GreedySettings {
     /// Set the iteration limit (at least 1).
     ///
     /// # Errors
     /// [`Error::InvalidSetting`] for 0.
     pub fn with_max_iter(mut self, max_iter: usize) -> Result<Self> {
-        if max_iter == 0 {
-            return Err(invalid("max_iter", max_iter, "must be at least 1"));
-        }
+        check::iterations("max_iter", max_iter)?;
         self.max_iter = max_iter;
         Ok(self)
     }
@@ -89,7 +79,11 @@ impl GreedySettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_grid_oversample(mut self, oversample: usize) -> Result<Self> {
         if !(8..=64).contains(&oversample) {
-            return Err(invalid("grid_oversample", oversample, "must lie in 8..=64"));
+            return Err(Error::invalid(
+                "grid_oversample",
+                oversample,
+                "must lie in 8..=64",
+            ));
         }
         self.grid_oversample = oversample;
         Ok(self)
@@ -101,7 +95,7 @@ impl GreedySettings {
     /// [`Error::InvalidSetting`] otherwise.
     pub fn with_floor_sigmas(mut self, k: f64) -> Result<Self> {
         if !(k.is_finite() && k >= 0.0) {
-            return Err(invalid(
+            return Err(Error::invalid(
                 "floor_sigmas",
                 k,
                 "must be non-negative and finite",
@@ -117,7 +111,11 @@ impl GreedySettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_merge_distance_fc(mut self, d: f64) -> Result<Self> {
         if !(0.0..=0.5).contains(&d) {
-            return Err(invalid("merge_distance_fc", d, "must lie in [0, 0.5]"));
+            return Err(Error::invalid(
+                "merge_distance_fc",
+                d,
+                "must lie in [0, 0.5]",
+            ));
         }
         self.merge_distance_fc = d;
         Ok(self)
@@ -176,7 +174,7 @@ impl Greedy {
     /// [`Error::InvalidSetting`] for 0.
     pub fn with_count(mut self, count: usize) -> Result<Self> {
         if count == 0 {
-            return Err(invalid(
+            return Err(Error::invalid(
                 "count",
                 count,
                 "at least one spike must be asked for",

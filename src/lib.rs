@@ -65,7 +65,7 @@ pub use noise::{estimate_sigma, residual_sigma, SigmaEstimate, SigmaMethod};
 pub use postprocess::PostProcess;
 pub use refine::RefineSettings;
 pub use scenario::{AmplitudeKind, Sample, Scenario};
-pub use sdp::{Ast, SdpSettings, Tv};
+pub use sdp::{Ast, Backend, SdpSettings, Tv};
 pub use subspace::{
     Esprit, MatrixPencil, ModelOrder, Music, OrderMethod, OrderSelection, SubspaceSettings,
 };

@@ -23,7 +23,7 @@
 //! Unlike matching each true spike to its nearest free estimate, the optimal assignment does not let
 //! one early pair take an estimate that a later spike needed.
 
-use crate::error::{Error, Result};
+use crate::error::{check, Error, Result};
 use crate::model::{wrap_difference, wrap_distance, Spikes};
 use pathfinding::prelude::{kuhn_munkres_min, Matrix};
 use serde::Serialize;
@@ -103,14 +103,12 @@ impl MatchSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] unless `gate_fc` is finite and positive.
     pub fn with_gate_fc(mut self, gate_fc: f64) -> Result<Self> {
-        if !(gate_fc.is_finite() && gate_fc > 0.0) {
-            return Err(Error::InvalidSetting {
-                name: "gate_fc",
-                value: gate_fc.to_string(),
-                rule: "the matching gate must be finite and positive (Rayleigh units)",
-            });
-        }
-        self.gate_fc = gate_fc;
+        self.gate_fc = check::that(
+            "gate_fc",
+            gate_fc,
+            gate_fc.is_finite() && gate_fc > 0.0,
+            "the matching gate must be finite and positive (Rayleigh units)",
+        )?;
         Ok(self)
     }
 

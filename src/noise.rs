@@ -286,6 +286,44 @@ pub fn residual_sigma(data: &Measurements, spikes: &Spikes) -> Option<f64> {
     Some((2.0 * r2 / (real_dof - params) as f64).sqrt())
 }
 
+/// The noise level an estimator works with, `(σ, estimated?)`; `σ = None` means exact data.
+///
+/// [`NoiseLevel::Exact`] and a known level of 0 give exact data; [`NoiseLevel::Estimate`] runs
+/// [`estimate_sigma`] and treats an estimate at rounding level relative to the data,
+/// `σ̂ ≤ 1e-10·‖y‖/√|K|`, as exact data (a double-precision record of exact samples leaves a noise
+/// subspace at that level).
+///
+/// # Errors
+/// [`Error::InvalidSetting`] for an invalid known level; [`Error::Unsupported`] when σ must be estimated
+/// but the data have no contiguous run long enough (the message says to give σ).
+pub(crate) fn resolve_noise(
+    data: &Measurements,
+    noise: crate::estimator::NoiseLevel,
+) -> Result<(Option<f64>, bool)> {
+    use crate::estimator::NoiseLevel;
+    match noise.validated()? {
+        NoiseLevel::Exact => Ok((None, false)),
+        NoiseLevel::Known(s) => Ok(((s > 0.0).then_some(s), false)),
+        NoiseLevel::Estimate => {
+            let est = estimate_sigma(data).map_err(|e| match e {
+                Error::Unsupported { reason, .. } => Error::Unsupported {
+                    method: "noise-level estimate".into(),
+                    reason: format!(
+                        "{reason}. Give the noise level explicitly (sigma; 0 for exact data)"
+                    ),
+                },
+                other => other,
+            })?;
+            let scale = data.norm() / (data.len() as f64).sqrt();
+            if est.sigma.is_nan() || est.sigma <= 1e-10 * scale {
+                Ok((None, true))
+            } else {
+                Ok((Some(est.sigma), true))
+            }
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

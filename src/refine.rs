@@ -9,7 +9,7 @@
 //! For exact data the TV solution *is* the zero-residual fit on its support, so this step takes the
 //! interior point's position error (about the square root of its tolerance) down to rounding level.
 
-use crate::error::{Error, Result};
+use crate::error::{check, Result};
 use crate::model::{atom, wrap, wrap_difference, Measurements, Spike, Spikes};
 use faer::linalg::solvers::Solve;
 use faer::{Mat, Side};
@@ -41,16 +41,14 @@ impl RefineSettings {
     /// Set the largest allowed move, in Rayleigh units, in `(0, 1]`.
     ///
     /// # Errors
-    /// [`Error::InvalidSetting`] outside that range.
+    /// [`crate::Error::InvalidSetting`] outside that range.
     pub fn with_max_shift_fc(mut self, shift: f64) -> Result<Self> {
-        if !(shift > 0.0 && shift <= 1.0) {
-            return Err(Error::InvalidSetting {
-                name: "max_shift_fc",
-                value: shift.to_string(),
-                rule: "must lie in (0, 1]",
-            });
-        }
-        self.max_shift_fc = shift;
+        self.max_shift_fc = check::that(
+            "max_shift_fc",
+            shift,
+            shift > 0.0 && shift <= 1.0,
+            "must lie in (0, 1]",
+        )?;
         Ok(self)
     }
 }
@@ -87,7 +85,7 @@ fn norm(r: &[Complex64]) -> f64 {
 ///
 /// # Errors
 /// Never for valid input; the signature leaves room for decomposition failures, which are reported
-/// as [`Error::Numerical`].
+/// as [`crate::Error::Numerical`].
 pub fn refine(data: &Measurements, spikes: &Spikes, settings: RefineSettings) -> Result<Refined> {
     let s = spikes.len();
     let mut pos = spikes.positions();

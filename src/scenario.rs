@@ -35,6 +35,8 @@ pub struct Scenario {
     seed: u64,
     subset_fraction: f64,
     domain: Domain,
+    /// Time record of this many samples (any length), instead of `2fc + 1`.
+    record_len: Option<usize>,
 }
 
 /// One realisation: the truth, the measurements, and the noise level used.
@@ -59,6 +61,7 @@ impl Default for Scenario {
             seed: 0,
             subset_fraction: 1.0,
             domain: Domain::Fourier,
+            record_len: None,
         }
     }
 }
@@ -69,6 +72,19 @@ impl Scenario {
         Scenario {
             fc,
             count,
+            ..Scenario::default()
+        }
+    }
+
+    /// A time record of `n` uniform samples (any `n ≥ 2`, even included) of `count` complex
+    /// exponentials; positions are frequencies in cycles per sample and the Rayleigh unit is that of
+    /// the stored band `−(n−1)..=0`, `fc = (n − 1)/2` ([`Measurements::from_time_samples`]).
+    pub fn time_record(n: usize, count: usize) -> Self {
+        Scenario {
+            fc: n / 2,
+            count,
+            domain: Domain::Time,
+            record_len: Some(n),
             ..Scenario::default()
         }
     }
@@ -104,9 +120,12 @@ impl Scenario {
         self
     }
 
-    /// Fourier coefficients or time samples.
+    /// Fourier coefficients or time samples (`2fc + 1` of them; see also [`Scenario::time_record`]).
     pub fn with_domain(mut self, domain: Domain) -> Self {
         self.domain = domain;
+        if domain == Domain::Fourier {
+            self.record_len = None;
+        }
         self
     }
 
@@ -122,7 +141,12 @@ impl Scenario {
         if self.count == 0 {
             return Err(bad("count", self.count, "at least one spike is needed"));
         }
-        let fc = self.fc as f64;
+        let (kmin, kmax) = match (self.domain, self.record_len) {
+            (Domain::Time, Some(n)) => (-(n as i64 - 1), 0),
+            (Domain::Fourier, _) => (-(self.fc as i64), self.fc as i64),
+            (Domain::Time, None) => (-2 * self.fc as i64, 0),
+        };
+        let fc = (kmax - kmin) as f64 / 2.0;
         let d = self.separation_fc / fc;
         if d.is_nan() || d <= 0.0 || d * self.count as f64 > 1.0 {
             return Err(bad(
@@ -155,11 +179,6 @@ impl Scenario {
                 .map(|(&p, &a)| Spike::new(p, a))
                 .collect(),
         )?;
-        let f = self.fc as i64;
-        let (kmin, kmax) = match self.domain {
-            Domain::Fourier => (-f, f),
-            Domain::Time => (-2 * f, 0),
-        };
         let mut idx: Vec<i64> = (kmin..=kmax).collect();
         if self.subset_fraction < 1.0 {
             idx.shuffle(&mut rng);
@@ -250,6 +269,19 @@ mod tests {
         let r = sample.data.residual(&sample.truth);
         let p = r.iter().map(|z| z.norm_sqr()).sum::<f64>() / r.len() as f64;
         assert!((p / 0.01 - 1.0).abs() < 0.04, "power ratio {}", p / 0.01);
+    }
+
+    #[test]
+    fn time_records_of_any_length() {
+        let s = Scenario::time_record(256, 4)
+            .with_separation(2.0)
+            .with_seed(1);
+        let a = s.generate().unwrap();
+        assert_eq!(a.data.len(), 256);
+        assert_eq!(a.data.domain(), Domain::Time);
+        assert_eq!(a.data.fc(), 127.5);
+        assert!((a.truth.min_separation() * 127.5 - 2.0).abs() < 1e-12);
+        assert!(Scenario::time_record(1, 1).generate().is_err());
     }
 
     #[test]

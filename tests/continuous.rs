@@ -16,11 +16,16 @@ mod common;
 use common::{case_names, load_case, score};
 use finespike::continuous::{self, Problem, Sfw, SfwSettings};
 use finespike::{
-    wrap_distance, AmplitudeKind, Ast, Estimate, Estimator, Measurements, PostProcess, Scenario,
-    Status, Tv,
+    wrap_distance, AmplitudeKind, Ast, Backend, Estimate, Estimator, Measurements, PostProcess,
+    Scenario, SdpSettings, Status, Tv,
 };
 
 const OBJ_TOL: f64 = 1e-6;
+
+/// The clarabel path, whatever the size (the default switches to Sliding Frank–Wolfe at fc = 25).
+fn interior() -> SdpSettings {
+    SdpSettings::default().with_backend(Backend::InteriorPoint)
+}
 const POS_TOL_FC: f64 = 1e-6;
 
 /// `max |q|` by direct sums on a fine grid (independent of the FFT grid and Newton polish).
@@ -67,7 +72,10 @@ fn assert_certified(name: &str, est: &Estimate) {
 /// Exact TV: `Sfw::exact()` against `Tv::exact()` (clarabel).
 fn compare_exact(name: &str, data: &Measurements) {
     let ours = Sfw::exact().estimate(data).unwrap();
-    let theirs = Tv::exact().estimate(data).unwrap();
+    let theirs = Tv::exact()
+        .with_settings(interior())
+        .estimate(data)
+        .unwrap();
     assert!(
         theirs.status.is_usable(),
         "{name}: clarabel {}",
@@ -92,7 +100,10 @@ fn compare_exact(name: &str, data: &Measurements) {
 /// Constrained TV: `Sfw::with_sigma` against `Tv::with_sigma` (clarabel).
 fn compare_constrained(name: &str, data: &Measurements, sigma: f64) {
     let ours = Sfw::with_sigma(sigma).estimate(data).unwrap();
-    let theirs = Tv::with_sigma(sigma).estimate(data).unwrap();
+    let theirs = Tv::with_sigma(sigma)
+        .with_settings(interior())
+        .estimate(data)
+        .unwrap();
     assert!(
         theirs.status.is_usable(),
         "{name}: clarabel {}",
@@ -110,7 +121,7 @@ fn compare_constrained(name: &str, data: &Measurements, sigma: f64) {
 /// AST: `continuous::solve(Penalised { λ = τ })` against `Ast::with_sigma` (clarabel), whose reported
 /// objective is `½‖y − x̂‖² + τ‖x̂‖_A` (offset included). Positions after the same post-processing.
 fn compare_ast(name: &str, data: &Measurements, sigma: f64) {
-    let ast = Ast::with_sigma(sigma);
+    let ast = Ast::with_sigma(sigma).with_settings(interior());
     let tau = ast.tau(sigma, data.len());
     let theirs = ast.estimate(data).unwrap();
     assert!(
@@ -439,7 +450,10 @@ fn degenerate_scenes_are_reported_honestly() {
                 .with_seed(seed)
                 .generate()
                 .unwrap();
-            let theirs = Tv::exact().estimate(&s.data).unwrap();
+            let theirs = Tv::exact()
+                .with_settings(interior())
+                .estimate(&s.data)
+                .unwrap();
             let optimum = theirs.diagnostics.objective.unwrap();
             let sol = continuous::solve(&s.data, Problem::Exact, &SfwSettings::default()).unwrap();
             assert!(
@@ -492,7 +506,10 @@ fn sweep_against_clarabel() {
                     "exact",
                     &exact.data,
                     Problem::Exact,
-                    Tv::exact().estimate(&exact.data).unwrap(),
+                    Tv::exact()
+                        .with_settings(interior())
+                        .estimate(&exact.data)
+                        .unwrap(),
                 ),
                 (
                     "constrained",
@@ -500,7 +517,10 @@ fn sweep_against_clarabel() {
                     Problem::Constrained {
                         delta: Tv::delta(noisy.sigma, noisy.data.len()),
                     },
-                    Tv::with_sigma(noisy.sigma).estimate(&noisy.data).unwrap(),
+                    Tv::with_sigma(noisy.sigma)
+                        .with_settings(interior())
+                        .estimate(&noisy.data)
+                        .unwrap(),
                 ),
                 (
                     "ast",
@@ -508,7 +528,10 @@ fn sweep_against_clarabel() {
                     Problem::Penalised {
                         lambda: Ast::with_sigma(noisy.sigma).tau(noisy.sigma, noisy.data.len()),
                     },
-                    Ast::with_sigma(noisy.sigma).estimate(&noisy.data).unwrap(),
+                    Ast::with_sigma(noisy.sigma)
+                        .with_settings(interior())
+                        .estimate(&noisy.data)
+                        .unwrap(),
                 ),
             ] {
                 let optimum = sdp.diagnostics.objective.unwrap();
@@ -531,4 +554,96 @@ fn sweep_against_clarabel() {
     }
     eprintln!("{certified} of {total} certified");
     assert!(certified * 10 >= total * 9);
+}
+
+/// `sdp` and `ast` switch to Sliding Frank–Wolfe from fc = 25 (band of 51 coefficients) and give the
+/// interior point's answer there: exact, constrained (25 dB) and AST, invented scenes at fc = 25.
+#[test]
+fn automatic_backend_matches_the_interior_point_above_the_switch() {
+    use finespike::sdp::{AUTO_SWITCH_BAND_LEN, INTERIOR_POINT};
+    let scene = Scenario::new(25, 6).with_separation(1.5).with_seed(4);
+    let exact = scene.clone().generate().unwrap();
+    let noisy = scene.with_snr_db(25.0).generate().unwrap();
+    assert_eq!(exact.data.band_len(), AUTO_SWITCH_BAND_LEN + 1);
+    type Pair<'a> = (
+        &'a str,
+        Box<dyn Estimator>,
+        Box<dyn Estimator>,
+        &'a Measurements,
+    );
+    let pairs: [Pair; 3] = [
+        (
+            "exact",
+            Box::new(Tv::exact()),
+            Box::new(Tv::exact().with_settings(interior())),
+            &exact.data,
+        ),
+        (
+            "constrained",
+            Box::new(Tv::with_sigma(noisy.sigma)),
+            Box::new(Tv::with_sigma(noisy.sigma).with_settings(interior())),
+            &noisy.data,
+        ),
+        (
+            "ast",
+            Box::new(Ast::with_sigma(noisy.sigma)),
+            Box::new(Ast::with_sigma(noisy.sigma).with_settings(interior())),
+            &noisy.data,
+        ),
+    ];
+    for (name, auto, ipm, data) in pairs {
+        let ours = auto.estimate(data).unwrap();
+        let theirs = ipm.estimate(data).unwrap();
+        assert_eq!(ours.method, theirs.method);
+        assert_eq!(
+            ours.diagnostics.solver,
+            Some(continuous::SLIDING_FRANK_WOLFE),
+            "{name}"
+        );
+        assert_eq!(theirs.diagnostics.solver, Some(INTERIOR_POINT), "{name}");
+        assert_eq!(ours.status, Status::Solved, "{name}");
+        assert_certified(name, &ours);
+        assert_objectives_agree(
+            name,
+            ours.diagnostics.objective.unwrap(),
+            theirs.diagnostics.objective.unwrap(),
+        );
+        assert_same_positions(name, &ours.spikes, &theirs.spikes, data.fc());
+        // Same diagnostics: noise level, residual check and plug-in CRB where there is noise.
+        assert_eq!(ours.diagnostics.sigma, theirs.diagnostics.sigma, "{name}");
+        assert_eq!(
+            ours.diagnostics.crb_std_position_fc.is_some(),
+            theirs.diagnostics.crb_std_position_fc.is_some(),
+            "{name}"
+        );
+    }
+    // Below the switch the interior point runs.
+    let small = Scenario::new(24, 4)
+        .with_separation(2.0)
+        .with_seed(4)
+        .generate()
+        .unwrap();
+    let est = Tv::exact().estimate(&small.data).unwrap();
+    assert_eq!(est.diagnostics.solver, Some(INTERIOR_POINT));
+}
+
+/// Where Sliding Frank–Wolfe cannot certify an exact solution (8 spikes 0.3/fc apart at fc = 25, an
+/// invented degenerate scene), the automatic backend falls back to the interior point and says so in
+/// the diagnostics; forcing Sliding Frank–Wolfe reports a status that is not `Solved`.
+#[test]
+fn automatic_backend_falls_back_when_not_certified() {
+    use finespike::sdp::INTERIOR_POINT;
+    let s = Scenario::new(25, 8)
+        .with_separation(0.3)
+        .with_seed(0)
+        .generate()
+        .unwrap();
+    let forced = Tv::exact()
+        .with_settings(SdpSettings::default().with_backend(Backend::SlidingFrankWolfe))
+        .estimate(&s.data)
+        .unwrap();
+    assert_ne!(forced.status, Status::Solved);
+    assert!(!forced.diagnostics.warnings.is_empty());
+    let auto = Tv::exact().estimate(&s.data).unwrap();
+    assert_eq!(auto.diagnostics.solver, Some(INTERIOR_POINT));
 }

@@ -62,7 +62,7 @@ mod sfw;
 pub(crate) mod slide;
 
 use crate::dual::{Certificate, DualPolynomial};
-use crate::error::{Error, Result};
+use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
 use crate::model::{Measurements, Spikes};
 use crate::postprocess::PostProcess;
@@ -92,26 +92,14 @@ pub enum Problem {
 impl Problem {
     fn validated(self) -> Result<Self> {
         match self {
-            Problem::Constrained { delta } if !(delta.is_finite() && delta >= 0.0) => Err(invalid(
-                "delta",
-                delta,
-                "the radius must be finite and non-negative",
-            )),
-            Problem::Penalised { lambda } if !(lambda.is_finite() && lambda > 0.0) => Err(invalid(
-                "lambda",
-                lambda,
-                "the weight must be positive and finite",
-            )),
+            Problem::Constrained { delta } if !(delta.is_finite() && delta >= 0.0) => Err(
+                Error::invalid("delta", delta, "the radius must be finite and non-negative"),
+            ),
+            Problem::Penalised { lambda } if !(lambda.is_finite() && lambda > 0.0) => Err(
+                Error::invalid("lambda", lambda, "the weight must be positive and finite"),
+            ),
             p => Ok(p),
         }
-    }
-}
-
-fn invalid(name: &'static str, value: impl ToString, rule: &'static str) -> Error {
-    Error::InvalidSetting {
-        name,
-        value: value.to_string(),
-        rule,
     }
 }
 
@@ -172,9 +160,7 @@ impl SfwSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] for 0.
     pub fn with_max_iter(mut self, max_iter: usize) -> Result<Self> {
-        if max_iter == 0 {
-            return Err(invalid("max_iter", max_iter, "must be at least 1"));
-        }
+        check::iterations("max_iter", max_iter)?;
         self.max_iter = max_iter;
         Ok(self)
     }
@@ -185,7 +171,11 @@ impl SfwSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_tolerance(mut self, tolerance: f64) -> Result<Self> {
         if !(1e-14..=1e-3).contains(&tolerance) {
-            return Err(invalid("tolerance", tolerance, "must lie in [1e-14, 1e-3]"));
+            return Err(Error::invalid(
+                "tolerance",
+                tolerance,
+                "must lie in [1e-14, 1e-3]",
+            ));
         }
         self.tolerance = tolerance;
         Ok(self)
@@ -196,10 +186,7 @@ impl SfwSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] for zero, negative or NaN.
     pub fn with_time_limit(mut self, seconds: f64) -> Result<Self> {
-        if seconds.is_nan() || seconds <= 0.0 {
-            return Err(invalid("time_limit", seconds, "must be positive"));
-        }
-        self.time_limit = seconds;
+        self.time_limit = check::seconds("time_limit", seconds)?;
         Ok(self)
     }
 
@@ -209,7 +196,11 @@ impl SfwSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_grid_oversample(mut self, oversample: usize) -> Result<Self> {
         if !(8..=64).contains(&oversample) {
-            return Err(invalid("grid_oversample", oversample, "must lie in 8..=64"));
+            return Err(Error::invalid(
+                "grid_oversample",
+                oversample,
+                "must lie in 8..=64",
+            ));
         }
         self.grid_oversample = oversample;
         Ok(self)
@@ -221,7 +212,11 @@ impl SfwSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_weak_margin(mut self, margin: f64) -> Result<Self> {
         if !(margin > 0.0 && margin < 0.5) {
-            return Err(invalid("weak_margin", margin, "must lie in (0, 0.5)"));
+            return Err(Error::invalid(
+                "weak_margin",
+                margin,
+                "must lie in (0, 0.5)",
+            ));
         }
         self.weak_margin = margin;
         Ok(self)
@@ -323,6 +318,9 @@ pub fn solve(data: &Measurements, problem: Problem, settings: &SfwSettings) -> R
     })
 }
 
+/// [`Diagnostics::solver`] of an estimate made by this module's solver.
+pub const SLIDING_FRANK_WOLFE: &str = "sliding Frank-Wolfe (certified)";
+
 /// Solve `problem` and turn the solution into an [`Estimate`] exactly as the SDP path does: support of
 /// the convex solution → shared post-processing (merge, least-squares amplitudes, floor, polish) →
 /// certificate of the dual polynomial against the final positions, warnings, diagnostics.
@@ -373,8 +371,8 @@ pub(crate) fn solve_tv(
     diagnostics.certificate = Some(cert);
     diagnostics.iterations = sol.iterations;
     diagnostics.objective = Some(sol.objective);
-    diagnostics.sigma = sigma;
-    diagnostics.sigma_estimated = sigma_estimated;
+    diagnostics.solver = Some(SLIDING_FRANK_WOLFE);
+    diagnostics.assess_noise(data, &spikes, sigma, sigma_estimated);
     diagnostics.solve_seconds = start.elapsed().as_secs_f64();
     Ok(Estimate {
         method,
@@ -420,27 +418,9 @@ impl Sfw {
     }
 }
 
-/// `(σ, estimated?)` for a noise level; `σ = None` means exact data. An estimated level
-/// ([`crate::noise::estimate_sigma`]) at rounding level relative to the data, `σ̂ < 1e-10·‖y‖/√|K|`,
-/// counts as exact data (the rule of the SDP path).
-///
-/// # Errors
-/// [`Error::InvalidSetting`] for an invalid known level; the estimator's errors for [`NoiseLevel::Estimate`].
-pub(crate) fn resolve_sigma(data: &Measurements, noise: NoiseLevel) -> Result<(Option<f64>, bool)> {
-    match noise.validated()? {
-        NoiseLevel::Exact => Ok((None, false)),
-        NoiseLevel::Known(s) => Ok(((s > 0.0).then_some(s), false)),
-        NoiseLevel::Estimate => {
-            let est = crate::noise::estimate_sigma(data)?;
-            let scale = data.norm() / (data.len() as f64).sqrt();
-            if est.sigma.is_nan() || est.sigma <= 1e-10 * scale {
-                Ok((None, true))
-            } else {
-                Ok((Some(est.sigma), true))
-            }
-        }
-    }
-}
+/// `(σ, estimated?)` for a noise level; `σ = None` means exact data (the rule shared by every
+/// estimator, [`crate::noise`]).
+pub(crate) use crate::noise::resolve_noise as resolve_sigma;
 
 impl Estimator for Sfw {
     fn name(&self) -> &'static str {

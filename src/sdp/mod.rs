@@ -29,8 +29,9 @@
 mod clarabel_adapter;
 pub(crate) mod compact;
 
+use crate::continuous::{self, Problem, SfwSettings};
 use crate::dual::DualPolynomial;
-use crate::error::{Error, Result};
+use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
 use crate::model::Measurements;
 use crate::postprocess::PostProcess;
@@ -38,6 +39,35 @@ use clarabel_adapter::IpmSettings;
 use compact::{ConicProgram, Formulation};
 use num_complex::Complex64;
 use std::time::Instant;
+
+/// Which solver [`Tv`] and [`Ast`] use for their convex problem.
+///
+/// Both solve the same problem and report the same diagnostics; they agree on every case both run
+/// (objective to 1e-6 relative, positions to 1e-6/fc: `tests/continuous.rs`). The interior point's cost
+/// grows like `N⁵`–`N⁶` in the band length `N` (a dense Schur complement of order `~N²/2`), the Sliding
+/// Frank–Wolfe solver's like `N log N` per iteration.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Backend {
+    /// The interior point below [`AUTO_SWITCH_BAND_LEN`] band coefficients, Sliding Frank–Wolfe from
+    /// there on. When Sliding Frank–Wolfe cannot certify its solution (a degenerate exact problem,
+    /// e.g. nearly as many spikes as coefficients) and the band is at most
+    /// [`FALLBACK_MAX_BAND_LEN`] long, the interior point is run instead.
+    #[default]
+    Auto,
+    /// clarabel's interior point on the compact SDP (this module).
+    InteriorPoint,
+    /// The certified Sliding Frank–Wolfe solver of [`crate::continuous`].
+    SlidingFrankWolfe,
+}
+
+/// Band length (`kmax − kmin + 1`) from which [`Backend::Auto`] uses Sliding Frank–Wolfe: `fc = 25`.
+/// Measured on a 2-core machine (benches `recovery` and `continuous`): the interior point takes
+/// ~0.26 s at `fc = 16` and 4–11 s at `fc = 32`, Sliding Frank–Wolfe 2–4 ms at `fc = 32`.
+pub const AUTO_SWITCH_BAND_LEN: usize = 50;
+
+/// Longest band on which [`Backend::Auto`] falls back to the interior point when Sliding Frank–Wolfe
+/// does not certify its solution (`fc = 32`: seconds, not minutes).
+pub const FALLBACK_MAX_BAND_LEN: usize = 65;
 
 /// Settings of the SDP path shared by [`Tv`] and [`Ast`]. Every default is chosen for double-precision
 /// exact recovery and works for the noisy problems too.
@@ -58,6 +88,8 @@ pub struct SdpSettings {
     pub grid_oversample: usize,
     /// Merging, amplitude floor and least-squares polish of the support.
     pub postprocess: PostProcess,
+    /// The solver (default [`Backend::Auto`]).
+    pub backend: Backend,
 }
 
 impl Default for SdpSettings {
@@ -70,6 +102,7 @@ impl Default for SdpSettings {
             weak_margin: 1e-3,
             grid_oversample: 16,
             postprocess: PostProcess::default(),
+            backend: Backend::Auto,
         }
     }
 }
@@ -80,9 +113,7 @@ impl SdpSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] for 0.
     pub fn with_max_iter(mut self, max_iter: u32) -> Result<Self> {
-        if max_iter == 0 {
-            return Err(invalid("max_iter", max_iter, "must be at least 1"));
-        }
+        check::iterations("max_iter", max_iter as usize)?;
         self.max_iter = max_iter;
         Ok(self)
     }
@@ -93,7 +124,11 @@ impl SdpSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_tolerance(mut self, tolerance: f64) -> Result<Self> {
         if !(tolerance > 0.0 && tolerance <= 1e-2) {
-            return Err(invalid("tolerance", tolerance, "must lie in (0, 1e-2]"));
+            return Err(Error::invalid(
+                "tolerance",
+                tolerance,
+                "must lie in (0, 1e-2]",
+            ));
         }
         self.tolerance = tolerance;
         Ok(self)
@@ -104,10 +139,7 @@ impl SdpSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] for zero, negative or NaN.
     pub fn with_time_limit(mut self, seconds: f64) -> Result<Self> {
-        if seconds.is_nan() || seconds <= 0.0 {
-            return Err(invalid("time_limit", seconds, "must be positive"));
-        }
-        self.time_limit = seconds;
+        self.time_limit = check::seconds("time_limit", seconds)?;
         Ok(self)
     }
 
@@ -117,7 +149,11 @@ impl SdpSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_support_tolerance(mut self, tol: f64) -> Result<Self> {
         if !(tol > 0.0 && tol < 0.5) {
-            return Err(invalid("support_tolerance", tol, "must lie in (0, 0.5)"));
+            return Err(Error::invalid(
+                "support_tolerance",
+                tol,
+                "must lie in (0, 0.5)",
+            ));
         }
         self.support_tolerance = tol;
         Ok(self)
@@ -128,14 +164,65 @@ impl SdpSettings {
         self.postprocess = postprocess;
         self
     }
+
+    /// Set the solver.
+    pub fn with_backend(mut self, backend: Backend) -> Self {
+        self.backend = backend;
+        self
+    }
 }
 
-fn invalid(name: &'static str, value: impl ToString, rule: &'static str) -> Error {
-    Error::InvalidSetting {
-        name,
-        value: value.to_string(),
-        rule,
+/// [`Diagnostics::solver`] of an estimate made by the interior-point path.
+pub const INTERIOR_POINT: &str = "interior point (clarabel, compact SDP)";
+
+/// Solve `problem` with the backend the settings choose and finish the estimate (module docs).
+fn run(
+    method: &'static str,
+    data: &Measurements,
+    problem: Problem,
+    sigma: Option<f64>,
+    sigma_estimated: bool,
+    settings: &SdpSettings,
+) -> Result<Estimate> {
+    let n = data.band_len();
+    let sliding = match settings.backend {
+        Backend::InteriorPoint => false,
+        Backend::SlidingFrankWolfe => true,
+        Backend::Auto => n >= AUTO_SWITCH_BAND_LEN,
+    };
+    if sliding {
+        let est = continuous::solve_tv(
+            data,
+            problem,
+            &SfwSettings::from(settings),
+            method,
+            sigma,
+            sigma_estimated,
+        )?;
+        let fallback = settings.backend == Backend::Auto
+            && est.status != Status::Solved
+            && n <= FALLBACK_MAX_BAND_LEN;
+        if !fallback {
+            return Ok(est);
+        }
     }
+    let start = Instant::now();
+    let formulation = match problem {
+        Problem::Exact => Formulation::Exact,
+        Problem::Constrained { delta } => Formulation::Constrained { delta },
+        Problem::Penalised { lambda } => Formulation::Penalised { tau: lambda },
+    };
+    let (q, report) = solve_dual(data, formulation, settings)?;
+    finish(
+        method,
+        data,
+        q,
+        report,
+        sigma,
+        sigma_estimated,
+        settings,
+        start,
+    )
 }
 
 /// What the solve reports besides the dual polynomial.
@@ -176,31 +263,7 @@ fn solve_dual(
     ))
 }
 
-/// The noise level to use: `(σ, estimated?)`; `σ = None` means exact data.
-fn resolve_sigma(data: &Measurements, noise: NoiseLevel) -> Result<(Option<f64>, bool)> {
-    match noise.validated()? {
-        NoiseLevel::Exact => Ok((None, false)),
-        NoiseLevel::Known(s) => Ok(((s > 0.0).then_some(s), false)),
-        NoiseLevel::Estimate => estimate_for_recovery(data),
-    }
-}
-
-/// Estimate σ for a recovery: `None` (exact data) when the estimate is at rounding level relative to the
-/// data, `σ/‖y‖·√|K| < 1e-10`; otherwise the estimate from [`crate::noise::estimate_sigma`].
-fn estimate_for_recovery(data: &Measurements) -> Result<(Option<f64>, bool)> {
-    let est = crate::noise::estimate_sigma(data).map_err(|e| match e {
-        Error::Unsupported { reason, .. } => Error::Unsupported {
-            method: "noise-level estimate".into(),
-            reason: format!("{reason}. Give the noise level explicitly (sigma; 0 for exact data)"),
-        },
-        other => other,
-    })?;
-    let scale = data.norm() / (data.len() as f64).sqrt();
-    if est.sigma.is_nan() || est.sigma <= 1e-10 * scale {
-        return Ok((None, true));
-    }
-    Ok((Some(est.sigma), true))
-}
+use crate::noise::resolve_noise as resolve_sigma;
 
 /// Support from the dual polynomial, shared post-processing, certificate and diagnostics.
 #[allow(clippy::too_many_arguments)]
@@ -241,6 +304,7 @@ fn finish(
     diagnostics.certificate = Some(cert);
     diagnostics.iterations = report.iterations;
     diagnostics.objective = Some(report.objective);
+    diagnostics.solver = Some(INTERIOR_POINT);
     diagnostics.assess_noise(data, &spikes, sigma, sigma_estimated);
     diagnostics.solve_seconds = start.elapsed().as_secs_f64();
     Ok(Estimate {
@@ -313,23 +377,15 @@ impl Estimator for Tv {
     fn estimate(&self, data: &Measurements) -> Result<Estimate> {
         let start = Instant::now();
         let (sigma, estimated) = resolve_sigma(data, self.noise)?;
-        let formulation = match sigma {
-            None => Formulation::Exact,
-            Some(s) => Formulation::Constrained {
+        let problem = match sigma {
+            None => Problem::Exact,
+            Some(s) => Problem::Constrained {
                 delta: Tv::delta(s, data.len()),
             },
         };
-        let (q, report) = solve_dual(data, formulation, &self.settings)?;
-        finish(
-            self.name(),
-            data,
-            q,
-            report,
-            sigma,
-            estimated,
-            &self.settings,
-            start,
-        )
+        let mut est = run(self.name(), data, problem, sigma, estimated, &self.settings)?;
+        est.diagnostics.solve_seconds = start.elapsed().as_secs_f64();
+        Ok(est)
     }
 }
 
@@ -370,7 +426,7 @@ impl Ast {
     /// [`Error::InvalidSetting`] otherwise.
     pub fn with_eta(mut self, eta: f64) -> Result<Self> {
         if !(eta.is_finite() && eta > 0.0) {
-            return Err(invalid("eta", eta, "must be positive and finite"));
+            return Err(Error::invalid("eta", eta, "must be positive and finite"));
         }
         self.eta = eta;
         Ok(self)
@@ -405,19 +461,11 @@ impl Estimator for Ast {
                     .into(),
             });
         };
-        let formulation = Formulation::Penalised {
-            tau: self.tau(s, data.len()),
+        let problem = Problem::Penalised {
+            lambda: self.tau(s, data.len()),
         };
-        let (q, report) = solve_dual(data, formulation, &self.settings)?;
-        finish(
-            self.name(),
-            data,
-            q,
-            report,
-            sigma,
-            estimated,
-            &self.settings,
-            start,
-        )
+        let mut est = run(self.name(), data, problem, sigma, estimated, &self.settings)?;
+        est.diagnostics.solve_seconds = start.elapsed().as_secs_f64();
+        Ok(est)
     }
 }

@@ -56,7 +56,7 @@ pub use pencil::MatrixPencil;
 
 use crate::amplitudes;
 use crate::error::{Error, Result};
-use crate::estimator::{Diagnostics, Estimate, Status};
+use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status};
 use crate::model::{wrap, Measurements};
 use crate::refine::{refine, RefineSettings};
 use faer::c64;
@@ -104,6 +104,10 @@ pub struct SubspaceSettings {
     pub seed: u64,
     /// Local least-squares polish of positions and amplitudes (default `None`: the classical method).
     pub refine: Option<RefineSettings>,
+    /// Noise level for the diagnostics (residual check and plug-in Cramér–Rao bound; the estimate
+    /// itself does not use it). Default: estimated from the data ([`crate::noise::estimate_sigma`]);
+    /// records too short to estimate it are reported without.
+    pub noise: NoiseLevel,
 }
 
 impl Default for SubspaceSettings {
@@ -119,15 +123,8 @@ impl Default for SubspaceSettings {
             power_iterations: 2,
             seed: 0,
             refine: None,
+            noise: NoiseLevel::Estimate,
         }
-    }
-}
-
-fn invalid(name: &'static str, value: impl ToString, rule: &'static str) -> Error {
-    Error::InvalidSetting {
-        name,
-        value: value.to_string(),
-        rule,
     }
 }
 
@@ -139,7 +136,11 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] for `L < 2`.
     pub fn with_window(mut self, rows: usize) -> Result<Self> {
         if rows < 2 {
-            return Err(invalid("window", rows, "the window L must be at least 2"));
+            return Err(Error::invalid(
+                "window",
+                rows,
+                "the window L must be at least 2",
+            ));
         }
         self.window = Some(rows);
         Ok(self)
@@ -172,7 +173,7 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] for 0.
     pub fn with_max_order(mut self, max_order: usize) -> Result<Self> {
         if max_order == 0 {
-            return Err(invalid("max_order", max_order, "must be at least 1"));
+            return Err(Error::invalid("max_order", max_order, "must be at least 1"));
         }
         self.max_order = Some(max_order);
         Ok(self)
@@ -184,7 +185,7 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] below 2.
     pub fn with_order_window(mut self, rows: usize) -> Result<Self> {
         if rows < 2 {
-            return Err(invalid("order_window", rows, "must be at least 2"));
+            return Err(Error::invalid("order_window", rows, "must be at least 2"));
         }
         self.order_window = rows;
         Ok(self)
@@ -202,7 +203,7 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_oversampling(mut self, extra: usize) -> Result<Self> {
         if !(1..=100).contains(&extra) {
-            return Err(invalid("oversampling", extra, "must lie in 1..=100"));
+            return Err(Error::invalid("oversampling", extra, "must lie in 1..=100"));
         }
         self.oversampling = extra;
         Ok(self)
@@ -214,7 +215,7 @@ impl SubspaceSettings {
     /// [`Error::InvalidSetting`] above 20.
     pub fn with_power_iterations(mut self, q: usize) -> Result<Self> {
         if q > 20 {
-            return Err(invalid("power_iterations", q, "must lie in 0..=20"));
+            return Err(Error::invalid("power_iterations", q, "must lie in 0..=20"));
         }
         self.power_iterations = q;
         Ok(self)
@@ -224,6 +225,15 @@ impl SubspaceSettings {
     pub fn with_seed(mut self, seed: u64) -> Self {
         self.seed = seed;
         self
+    }
+
+    /// Set the noise level used by the diagnostics.
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] for a negative or non-finite known level.
+    pub fn with_noise(mut self, noise: NoiseLevel) -> Result<Self> {
+        self.noise = noise.validated()?;
+        Ok(self)
     }
 
     /// Turn the least-squares polish on (with these settings) or off (`None`, the default).
@@ -448,6 +458,13 @@ pub(crate) fn run(
     let mut diagnostics = Diagnostics::describe(data, &spikes);
     diagnostics.iterations = power_iterations + refine_steps;
     diagnostics.model_order = Some(prepared.order);
+    let (sigma, estimated) = match crate::noise::resolve_noise(data, settings.noise) {
+        Ok(level) => level,
+        // Too short a record to estimate σ: no noise assessment (it is optional here).
+        Err(Error::Unsupported { .. }) => (None, false),
+        Err(e) => return Err(e),
+    };
+    diagnostics.assess_noise(data, &spikes, sigma, estimated);
     diagnostics.solve_seconds = prepared.start.elapsed().as_secs_f64();
     Ok(Estimate {
         method: method.name(),

@@ -3,6 +3,8 @@
 //! results were computed with cvxpy + SCS and numpy).
 #![allow(dead_code)]
 
+pub mod montecarlo;
+
 use finespike::io::{parse_samples, parse_spikes_json, SpikeFile};
 use finespike::{wrap_distance, Domain, Measurements, Spikes};
 use std::path::PathBuf;
