@@ -92,7 +92,7 @@ fn recover_prints_result_json() {
     // The summary goes to stderr, stdout stays JSON.
     let err = stderr(&out);
     for needle in [
-        "sdp: solved (after",
+        "sdp: solved (",
         "σ = 0, exact data (as given)",
         "closest pair",
         "certificate",
@@ -128,6 +128,7 @@ fn recover_json_has_a_fixed_shape() {
         let d = v["diagnostics"].as_object().unwrap();
         // key → allowed JSON kinds ("null" where the figure may be absent).
         let want: &[(&str, &[&str])] = &[
+            ("solver", &["string", "null"]),
             ("iterations", &["number"]),
             ("solve_seconds", &["number"]),
             ("objective", &["number", "null"]),
@@ -160,6 +161,7 @@ fn recover_json_has_a_fixed_shape() {
             assert!(kinds.contains(&kind), "{method}: {key} is {kind}");
         }
         if method == "sdp" {
+            assert!(d["solver"].is_string());
             let c = d["certificate"].as_object().unwrap();
             for k in ["max_modulus", "max_off_support", "min_on_support"] {
                 assert!(c[k].is_f64(), "certificate.{k}");
@@ -871,4 +873,74 @@ fn help_is_complete() {
             }
         }
     }
+}
+
+#[test]
+fn even_time_records_round_trip() {
+    // A record of 32 samples (fc = 15.5): simulate writes n = 0..31, the truth records fc = 15.5,
+    // recover finds the lines and bound rebuilds the same band from the truth file alone.
+    let dir = tmpdir("even");
+    let (csv, truth) = simulate(
+        &dir,
+        "rec",
+        &[
+            "--samples",
+            "32",
+            "--count",
+            "2",
+            "--separation",
+            "2",
+            "--seed",
+            "6",
+            "--snr",
+            "40",
+        ],
+    );
+    let text = std::fs::read_to_string(&csv).unwrap();
+    let rows: Vec<&str> = text.lines().collect();
+    assert_eq!(rows[0], "n,re,im");
+    assert_eq!(rows.len(), 33);
+    assert!(rows[32].starts_with("31,"));
+    let file = finespike::io::read_spikes_json(&truth).unwrap();
+    assert_eq!(file.fc, Some(15.5));
+    let v: Value =
+        serde_json::from_str(&ok(&run(&["recover", "-i", s(&csv), "-m", "esprit"]))).unwrap();
+    let found = positions(&v);
+    let want = file.spikes.positions();
+    assert_eq!(found.len(), 2);
+    for (a, b) in found.iter().zip(&want) {
+        assert!((a - b).abs() * 15.5 < 0.02, "{found:?} vs {want:?}");
+    }
+    let k: Vec<i64> = (-31..=0).collect();
+    let bound = finespike::crb(&k, -31..=0, &file.spikes, file.sigma.unwrap()).unwrap();
+    let v: Value = serde_json::from_str(&ok(&run(&[
+        "bound",
+        "-t",
+        s(&truth),
+        "--domain",
+        "time",
+        "--format",
+        "json",
+    ])))
+    .unwrap();
+    assert_eq!(v["kmin"], -31);
+    let got = v["bound"]["per_spike"][0]["std_position"].as_f64().unwrap();
+    assert_eq!(got, bound.per_spike[0].std_position);
+    // A non-integer fc cannot make a Fourier band: the message says what to give instead.
+    let out = run(&["bound", "-t", s(&truth)]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("fc = 15.5 is not a positive integer"));
+    // --samples and --fc do not mix.
+    let out = run(&[
+        "simulate",
+        "--samples",
+        "32",
+        "--fc",
+        "8",
+        "--out",
+        "x",
+        "--truth",
+        "y",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
 }

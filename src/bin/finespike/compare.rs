@@ -55,6 +55,10 @@ pub struct CompareArgs {
     /// invented scene (default fourier).
     #[arg(long, value_enum)]
     domain: Option<DomainArg>,
+    /// In a sweep: time records of exactly N samples (any N >= 2, even included) instead of --fc and
+    /// --domain.
+    #[arg(long, value_name = "N", requires = "trials", conflicts_with_all = ["fc", "domain"])]
+    samples: Option<usize>,
     /// Number of invented scenes to run every method on.
     #[arg(long)]
     trials: Option<usize>,
@@ -184,7 +188,7 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
         let seed = a.scene.seed.wrapping_add(t as u64);
         let sample = a
             .scene
-            .scenario(fc, domain, seed)
+            .scenario(fc, domain, a.samples, seed)
             .generate()
             .map_err(scene_error)?;
         let noise = if a.estimate_sigma {
@@ -206,17 +210,22 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
     bar.finish_and_clear();
     let summaries: Vec<Summary> = tallies.iter().map(Tally::summary).collect();
     let s = &a.scene;
-    let band = match domain {
-        DomainArg::Fourier => format!("Fourier band -{fc}..{fc}"),
-        DomainArg::Time => format!("{} time samples", 2 * fc + 1),
+    let band = match (a.samples, domain) {
+        (Some(n), _) => format!("{n} time samples"),
+        (None, DomainArg::Fourier) => format!("Fourier band -{fc}..{fc}"),
+        (None, DomainArg::Time) => format!("{} time samples", 2 * fc + 1),
     };
     let text = match a.format {
         ReportFormat::Json => {
             let v = json!({
                 "mode": "sweep",
                 "scene": {
-                    "fc": fc,
-                    "domain": match domain { DomainArg::Fourier => "fourier", DomainArg::Time => "time" },
+                    "fc": a.samples.map_or(fc as f64, |n| (n as f64 - 1.0) / 2.0),
+                    "samples": a.samples,
+                    "domain": match (a.samples, domain) {
+                        (None, DomainArg::Fourier) => "fourier",
+                        _ => "time",
+                    },
                     "count": s.count,
                     "separation_fc": s.separation,
                     "snr_db": s.snr,

@@ -83,11 +83,14 @@ fn list(values: &[f64], digits: usize) -> String {
 /// The readable summary of an estimate's diagnostics (several lines, each ending in a newline).
 pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> String {
     let d = &estimate.diagnostics;
-    let steps = match d.iterations {
+    let mut steps = match d.iterations {
         0 => "direct method, no iterations".to_string(),
         1 => "after 1 iteration".to_string(),
         n => format!("after {n} iterations"),
     };
+    if let Some(solver) = d.solver {
+        steps = format!("{solver}, {steps}");
+    }
     let mut out = format!(
         "{}: {} ({steps}) in {:.3} s\n",
         estimate.method, estimate.status, d.solve_seconds

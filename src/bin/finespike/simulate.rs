@@ -30,14 +30,24 @@ pub struct SceneArgs {
 }
 
 impl SceneArgs {
-    /// The scenario with cutoff `fc`, in `domain`, drawn with `seed`.
-    pub fn scenario(&self, fc: usize, domain: DomainArg, seed: u64) -> Scenario {
-        let sc = Scenario::new(fc, self.count)
+    /// The scenario with cutoff `fc` in `domain` (or a time record of `samples` samples), drawn with
+    /// `seed`.
+    pub fn scenario(
+        &self,
+        fc: usize,
+        domain: DomainArg,
+        samples: Option<usize>,
+        seed: u64,
+    ) -> Scenario {
+        let base = match samples {
+            Some(n) => Scenario::time_record(n, self.count),
+            None => Scenario::new(fc, self.count).with_domain(domain.domain()),
+        };
+        let sc = base
             .with_separation(self.separation)
             .with_amplitudes(self.amplitudes.kind())
             .with_seed(seed)
-            .with_subset_fraction(self.subset)
-            .with_domain(domain.domain());
+            .with_subset_fraction(self.subset);
         match self.snr {
             Some(s) => sc.with_snr_db(s),
             None => sc,
@@ -59,6 +69,10 @@ pub struct SimulateArgs {
     /// Fourier coefficients (`k,re,im`) or time samples (`n,re,im`).
     #[arg(long, value_enum, default_value_t = DomainArg::Fourier)]
     domain: DomainArg,
+    /// A time record of exactly N samples n = 0..N-1 (any N >= 2, even included; fc = (N-1)/2),
+    /// instead of --fc and --domain.
+    #[arg(long, value_name = "N", conflicts_with_all = ["fc", "domain"])]
+    samples: Option<usize>,
     #[command(flatten)]
     scene: SceneArgs,
     /// Where to write the samples (CSV; `-` for stdout).
@@ -77,7 +91,7 @@ pub fn scene_error(e: Error) -> Failure {
 pub fn run(a: SimulateArgs) -> Result<(), Failure> {
     let sample = a
         .scene
-        .scenario(a.fc, a.domain, a.scene.seed)
+        .scenario(a.fc, a.domain, a.samples, a.scene.seed)
         .generate()
         .map_err(scene_error)?;
     let file = SpikeFile {
