@@ -29,11 +29,12 @@ pub struct BoundArgs {
     /// Cutoff fc of the band -fc..fc (default: the truth file's fc).
     #[arg(long)]
     fc: Option<usize>,
-    /// Fourier band -fc..fc, or time samples (default fourier; with --data: from its header).
+    /// Fourier band -fc..fc, or time samples (default: time with --samples, from the header with
+    /// --data, fourier otherwise).
     #[arg(long, value_enum)]
     domain: Option<DomainArg>,
-    /// Number N of time samples (time domain; default 2fc+1).
-    #[arg(long)]
+    /// Number N of time samples n = 0..N-1 (any N >= 2; default 2fc+1 from --fc or the truth file).
+    #[arg(long, value_name = "N")]
     samples: Option<usize>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = ReportFormat::Text)]
@@ -86,7 +87,12 @@ fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
             ),
         });
     }
-    match a.domain.unwrap_or(DomainArg::Fourier) {
+    let implied = if a.samples.is_some() {
+        DomainArg::Time
+    } else {
+        DomainArg::Fourier
+    };
+    match a.domain.unwrap_or(implied) {
         DomainArg::Fourier => {
             if a.samples.is_some() {
                 return Err(Failure::Usage(

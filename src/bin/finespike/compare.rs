@@ -181,6 +181,10 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
     }
     let fc = a.fc.unwrap_or(16);
     let domain = a.domain.unwrap_or(DomainArg::Fourier);
+    // Settings errors surface before the first trial, not in the middle of the progress bar.
+    for m in methods {
+        build(m, NoiseLevel::Estimate, a.order)?;
+    }
     let mut tallies: Vec<Tally> = methods.iter().map(|m| Tally::new(m)).collect();
     let bar = progress(trials * methods.len());
     let started = Instant::now();
