@@ -667,6 +667,20 @@ fn bound_matches_the_library_on_the_same_file() {
     ])))
     .unwrap();
     check(&v, &want_t);
+    // --samples alone implies time samples.
+    let v: Value = serde_json::from_str(&ok(&run(&[
+        "bound",
+        "-t",
+        s(&truth),
+        "--samples",
+        "40",
+        "--sigma",
+        "0.05",
+        "--format",
+        "json",
+    ])))
+    .unwrap();
+    check(&v, &want_t);
     // The text report lists every spike with its position bound in 1/fc units.
     let text = ok(&run(&["bound", "-t", s(&truth)]));
     for b in &want.per_spike {
