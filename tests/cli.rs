@@ -34,8 +34,23 @@ fn ok(out: &Output) -> String {
     String::from_utf8(out.stdout.clone()).expect("utf-8 stdout")
 }
 
-/// A fresh folder for one test (unique per process and call).
-fn tmpdir(tag: &str) -> PathBuf {
+/// A fresh folder for one test (unique per process and call), removed when the test ends.
+struct TempDir(PathBuf);
+
+impl Drop for TempDir {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
+
+impl std::ops::Deref for TempDir {
+    type Target = Path;
+    fn deref(&self) -> &Path {
+        &self.0
+    }
+}
+
+fn tmpdir(tag: &str) -> TempDir {
     static N: AtomicUsize = AtomicUsize::new(0);
     let dir = std::env::temp_dir().join(format!(
         "finespike-cli-{}-{tag}-{}",
@@ -43,7 +58,7 @@ fn tmpdir(tag: &str) -> PathBuf {
         N.fetch_add(1, Ordering::SeqCst)
     ));
     std::fs::create_dir_all(&dir).unwrap();
-    dir
+    TempDir(dir)
 }
 
 fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
