@@ -24,6 +24,9 @@ use crate::error::{check, Result};
 use crate::model::{wrap, wrap_difference, Measurements, Spikes};
 use crate::refine::{refine, RefineSettings};
 
+/// Rounds of polish and merge before giving up on a support that keeps collapsing.
+const MAX_POLISH_PASSES: usize = 4;
+
 /// Settings of the shared post-processing.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct PostProcess {
@@ -125,12 +128,16 @@ impl PostProcess {
         let positions = merge_positions(candidates, self.merge_distance_fc / data.fc());
         let mut spikes = self.fit_above_floor(data, &positions, sigma)?;
         if let Some(rs) = self.refine {
-            let refined = refine(data, &spikes, rs)?;
-            spikes = refined.spikes;
-            let positions =
-                merge_positions(&spikes.positions(), self.merge_distance_fc / data.fc());
-            if positions.len() < spikes.len() {
-                spikes = amplitudes::fit(data, &positions)?;
+            // Polish; spikes the polish brings together are merged and the result polished again
+            // (a merged position is a mean, not a least-squares fit).
+            for _ in 0..MAX_POLISH_PASSES {
+                spikes = refine(data, &spikes, rs)?.spikes;
+                let positions =
+                    merge_positions(&spikes.positions(), self.merge_distance_fc / data.fc());
+                if positions.len() == spikes.len() {
+                    break;
+                }
+                spikes = self.fit_above_floor(data, &positions, sigma)?;
             }
             let amax = max_abs(&spikes);
             let floor = self.floor(data, sigma, amax);
@@ -294,6 +301,29 @@ mod tests {
             .unwrap();
         assert_eq!(out.len(), 1);
         assert!((out.positions()[0] - 0.2).abs() < 1e-12);
+    }
+
+    /// Two candidates straddling one line (as the dual polynomial of a noisy solve can give): the
+    /// polish pulls them together, they merge, and the merged spike is polished again — the result is
+    /// the line itself, not the mean of two polished positions.
+    #[test]
+    fn merged_candidates_are_polished_again() {
+        let fc = 16;
+        let idx: Vec<i64> = (-fc..=fc).collect();
+        let truth = Spikes::from_parts(&[0.4], &[Complex64::new(1.0, 0.0)]).unwrap();
+        let data =
+            Measurements::in_band(-fc, fc, &idx, &forward(&truth, &idx), Domain::Fourier).unwrap();
+        for (a, b) in [(-0.06, 0.09), (-0.1, 0.04), (-0.12, 0.12)] {
+            let candidates = [0.4 + a / fc as f64, 0.4 + b / fc as f64];
+            let out = PostProcess::default()
+                .apply(&data, &candidates, Some(1e-3))
+                .unwrap();
+            assert_eq!(out.len(), 1, "{a} {b}: {out:?}");
+            assert!(
+                (out.positions()[0] - 0.4).abs() * 16.0 < 1e-9,
+                "{a} {b}: {out:?}"
+            );
+        }
     }
 
     /// One line plus a small, close companion that the noise cannot support: the companion 0.2/fc away
