@@ -280,6 +280,21 @@ fn invalid_settings_are_errors() {
     ));
     assert!(solve(&data, f64::NAN, &s).is_err());
     assert!(GridL1::with_sigma(f64::NAN).estimate(&data).is_err());
+    // Fields written directly are checked when used.
+    let mut direct = GridSettings::default();
+    direct.eta = f64::NAN;
+    assert!(direct.validated().is_err());
+    assert!(GridL1::exact()
+        .with_settings(direct)
+        .estimate(&data)
+        .is_err());
+    assert!(solve(&data, 1.0, &direct).is_err());
+    direct.eta = 1.5;
+    direct.oversample = 0;
+    assert!(GridL1::exact()
+        .with_settings(direct)
+        .estimate(&data)
+        .is_err());
     assert!(GridL1::with_sigma(-1.0).estimate(&data).is_err());
     assert!(GridOperator::new(&data, data.band_len() - 1).is_err());
     let op = GridOperator::new(&data, data.band_len()).unwrap();
