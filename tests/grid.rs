@@ -281,8 +281,10 @@ fn invalid_settings_are_errors() {
     assert!(solve(&data, f64::NAN, &s).is_err());
     assert!(GridL1::with_sigma(f64::NAN).estimate(&data).is_err());
     // Fields written directly are checked when used.
-    let mut direct = GridSettings::default();
-    direct.eta = f64::NAN;
+    let mut direct = GridSettings {
+        eta: f64::NAN,
+        ..GridSettings::default()
+    };
     assert!(direct.validated().is_err());
     assert!(GridL1::exact()
         .with_settings(direct)
