@@ -99,9 +99,9 @@
 //! the data. A round's result is kept only if it adds a spike and lowers the residual. Rounds stop at
 //! `rounds` (default 3), when the residual is at rounding level (`10⁻¹⁰‖y‖`, exact data), when a round
 //! finds no new cluster (for noisy data: the residual's correlation is below the noise weight), or when
-//! a round's result is not kept. A weak spike within `0.5/fc` of a much stronger one stays hidden. The reported objective and duality gap are those of the first round;
-//! iterations are summed over the rounds, and any round stopped by the iteration limit makes the
-//! estimate's status [`Status::IterationLimit`].
+//! a round's result is not kept. A weak spike within `0.5/fc` of a much stronger one stays hidden.
+//! The reported objective is that of the first round; iterations are summed over the rounds, and any
+//! round stopped by the iteration limit makes the estimate's status [`Status::IterationLimit`].
 //!
 //! ## References
 //! - A. Beck, M. Teboulle, "A fast iterative shrinkage-thresholding algorithm for linear inverse
@@ -115,7 +115,7 @@
 //! - B. N. Bhaskar, G. Tang, B. Recht, "Atomic norm denoising with applications to line spectral
 //!   estimation", IEEE Trans. Signal Process. 61(23), 5987–5999, 2013.
 //!
-//! (DOIs recalled from memory.)
+//! (DOIs and section numbers recalled from memory.)
 //!
 //! # Examples
 //! ```
