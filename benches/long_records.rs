@@ -4,16 +4,10 @@
 //! lines at least 2/fc apart with complex white Gaussian noise at 30 dB for the weakest line. Scenes are
 //! invented (seeded draws). Setup is outside the timed closure.
 //!
-//! The record is built here (the idea of `line_record` in `benches/continuous.rs`): positions and
-//! amplitudes from [`Scenario`] with the separation rescaled to the record's own `fc = (N − 1)/2`, the
-//! samples synthesised for all `N` times, then noise.
+//! The records come from [`Scenario::time_record`] (as the greedy bench in `benches/continuous.rs`).
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use finespike::grid::GridL1;
 use finespike::{Estimator, Greedy, Measurements, Scenario};
-use num_complex::Complex64;
-use rand::rngs::StdRng;
-use rand::{Rng, SeedableRng};
-use rand_distr::StandardNormal;
 use std::time::Duration;
 
 const LENGTHS: [usize; 4] = [256, 1024, 4096, 16384];
@@ -22,40 +16,15 @@ const SNR_DB: f64 = 30.0;
 const SEED: u64 = 5;
 
 /// `n` time samples of `count` lines at least 2/fc apart (fc = (n − 1)/2), complex white Gaussian noise
-/// of level σ = |a|_min · 10^(−snr/20); returns the data and σ.
+/// at `snr_db` for the weakest line (an invented, seeded scene); returns the data and σ.
 fn line_record(n: usize, count: usize, snr_db: f64, seed: u64) -> (Measurements, f64) {
-    let fc = (n - 1) as f64 / 2.0;
-    let scene = Scenario::new(n / 2, count)
-        .with_separation(2.0 * (n / 2) as f64 / fc)
+    let scene = Scenario::time_record(n, count)
+        .with_separation(2.0)
+        .with_snr_db(snr_db)
         .with_seed(seed)
         .generate()
         .expect("scene");
-    let amin = scene
-        .truth
-        .iter()
-        .map(|s| s.amplitude.norm())
-        .fold(f64::INFINITY, f64::min);
-    let sigma = amin * 10f64.powf(-snr_db / 20.0);
-    let mut rng = StdRng::seed_from_u64(seed ^ 0x5eed);
-    let s = sigma / std::f64::consts::SQRT_2;
-    let x: Vec<Complex64> = (0..n)
-        .map(|t| {
-            let clean: Complex64 = scene
-                .truth
-                .iter()
-                .map(|l| {
-                    l.amplitude
-                        * Complex64::from_polar(
-                            1.0,
-                            2.0 * std::f64::consts::PI * (l.position * t as f64).fract(),
-                        )
-                })
-                .sum();
-            let (re, im): (f64, f64) = (rng.sample(StandardNormal), rng.sample(StandardNormal));
-            clean + Complex64::new(s * re, s * im)
-        })
-        .collect();
-    (Measurements::from_time_samples(&x).expect("samples"), sigma)
+    (scene.data, scene.sigma)
 }
 
 fn by_length(c: &mut Criterion, group_name: &str, make: fn(f64) -> Box<dyn Estimator>) {

@@ -131,7 +131,7 @@
 
 use crate::continuous::kernel::MAX_GRID;
 use crate::continuous::resolve_sigma;
-use crate::error::{Error, Result};
+use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
 use crate::model::{wrap, wrap_distance, Measurements, Spikes};
 use crate::postprocess::PostProcess;
@@ -150,14 +150,6 @@ const EXACT_STOP: f64 = 1e-10;
 /// Residual rounds ignore clusters closer than this many Rayleigh lengths to a spike already placed
 /// (half the main lobe width `2/N ≈ 1/fc` of the Dirichlet kernel).
 const ROUND_EXCLUSION_FC: f64 = 0.5;
-
-fn invalid(name: &'static str, value: impl ToString, rule: &'static str) -> Error {
-    Error::InvalidSetting {
-        name,
-        value: value.to_string(),
-        rule,
-    }
-}
 
 /// Settings of the grid ℓ1 estimator; the defaults work for the demo and test problems.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -204,7 +196,11 @@ impl GridSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_oversample(mut self, oversample: usize) -> Result<Self> {
         if !(2..=64).contains(&oversample) {
-            return Err(invalid("oversample", oversample, "must lie in 2..=64"));
+            return Err(Error::invalid(
+                "oversample",
+                oversample,
+                "must lie in 2..=64",
+            ));
         }
         self.oversample = oversample;
         Ok(self)
@@ -215,9 +211,7 @@ impl GridSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] for 0.
     pub fn with_max_iter(mut self, max_iter: usize) -> Result<Self> {
-        if max_iter == 0 {
-            return Err(invalid("max_iter", max_iter, "must be at least 1"));
-        }
+        check::iterations("max_iter", max_iter)?;
         self.max_iter = max_iter;
         Ok(self)
     }
@@ -227,9 +221,12 @@ impl GridSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_tolerance(mut self, tolerance: f64) -> Result<Self> {
-        if !(1e-14..=0.1).contains(&tolerance) {
-            return Err(invalid("tolerance", tolerance, "must lie in [1e-14, 0.1]"));
-        }
+        check::that(
+            "tolerance",
+            tolerance,
+            (1e-14..=0.1).contains(&tolerance),
+            "must lie in [1e-14, 0.1]",
+        )?;
         self.tolerance = tolerance;
         Ok(self)
     }
@@ -239,9 +236,12 @@ impl GridSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] otherwise.
     pub fn with_eta(mut self, eta: f64) -> Result<Self> {
-        if !(eta.is_finite() && eta > 0.0) {
-            return Err(invalid("eta", eta, "must be positive and finite"));
-        }
+        check::that(
+            "eta",
+            eta,
+            eta.is_finite() && eta > 0.0,
+            "must be positive and finite",
+        )?;
         self.eta = eta;
         Ok(self)
     }
@@ -251,9 +251,12 @@ impl GridSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_mismatch_fraction(mut self, fraction: f64) -> Result<Self> {
-        if !(fraction > 0.0 && fraction < 1.0) {
-            return Err(invalid("mismatch_fraction", fraction, "must lie in (0, 1)"));
-        }
+        check::that(
+            "mismatch_fraction",
+            fraction,
+            fraction > 0.0 && fraction < 1.0,
+            "must lie in (0, 1)",
+        )?;
         self.mismatch_fraction = Some(fraction);
         Ok(self)
     }
@@ -273,7 +276,7 @@ impl GridSettings {
     /// [`Error::InvalidSetting`] above that.
     pub fn with_cluster_gap(mut self, gap: usize) -> Result<Self> {
         if gap > self.oversample / 2 {
-            return Err(invalid(
+            return Err(Error::invalid(
                 "cluster_gap",
                 gap,
                 "must be at most oversample / 2 grid points",
@@ -289,7 +292,7 @@ impl GridSettings {
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_rounds(mut self, rounds: usize) -> Result<Self> {
         if !(1..=10).contains(&rounds) {
-            return Err(invalid("rounds", rounds, "must lie in 1..=10"));
+            return Err(Error::invalid("rounds", rounds, "must lie in 1..=10"));
         }
         self.rounds = rounds;
         Ok(self)
@@ -348,7 +351,7 @@ impl GridOperator {
     /// or above 2^26 points (1 GiB per vector).
     pub fn new(data: &Measurements, grid_len: usize) -> Result<Self> {
         if grid_len < data.band_len() || grid_len > MAX_GRID {
-            return Err(invalid(
+            return Err(Error::invalid(
                 "grid_len",
                 grid_len,
                 "the grid needs at least as many points as the band has coefficients, and at most 2^26",
@@ -531,7 +534,11 @@ impl GridSolution {
 /// ([`GridSettings::validated`]); [`Error::Unsupported`] for a grid above 2^26 points.
 pub fn solve(data: &Measurements, lambda: f64, settings: &GridSettings) -> Result<GridSolution> {
     if !(lambda.is_finite() && lambda > 0.0) {
-        return Err(invalid("lambda", lambda, "must be positive and finite"));
+        return Err(Error::invalid(
+            "lambda",
+            lambda,
+            "must be positive and finite",
+        ));
     }
     let settings = settings.validated()?;
     let op = operator(data, settings.oversample)?;
