@@ -38,6 +38,7 @@ pub mod dual;
 pub mod error;
 pub mod estimator;
 pub mod greedy;
+pub mod grid;
 pub mod io;
 pub mod metrics;
 pub mod model;
@@ -59,6 +60,7 @@ pub use dual::{Certificate, DualPolynomial};
 pub use error::{Error, Result};
 pub use estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
 pub use greedy::{Greedy, GreedySettings};
+pub use grid::{GridL1, GridSettings};
 pub use metrics::{MatchSettings, Score};
 pub use model::{wrap_distance, Domain, Measurements, Spike, Spikes};
 pub use noise::{estimate_sigma, residual_sigma, SigmaEstimate, SigmaMethod};
@@ -71,7 +73,9 @@ pub use subspace::{
 };
 
 /// Names of the estimators available through [`estimator_by_name`].
-pub const METHODS: &[&str] = &["sdp", "ast", "sfw", "greedy", "music", "esprit", "pencil"];
+pub const METHODS: &[&str] = &[
+    "sdp", "ast", "sfw", "greedy", "grid", "music", "esprit", "pencil",
+];
 
 /// An estimator with default settings, by its method name.
 ///
@@ -83,6 +87,7 @@ pub fn estimator_by_name(name: &str) -> Result<Box<dyn Estimator>> {
         "ast" => Ok(Box::new(Ast::default())),
         "sfw" => Ok(Box::new(Sfw::default())),
         "greedy" => Ok(Box::new(greedy::Greedy::default())),
+        "grid" => Ok(Box::new(GridL1::default())),
         "music" => Ok(Box::new(Music::default())),
         "esprit" => Ok(Box::new(Esprit::default())),
         "pencil" => Ok(Box::new(MatrixPencil::default())),
