@@ -252,6 +252,10 @@ pub struct Diagnostics {
     pub solve_seconds: f64,
     /// Optimal objective value where the method has one (for `sdp`: the TV norm).
     pub objective: Option<f64>,
+    /// Relative duality gap of the convex solve where the solver reports one: `(primal − dual)/|primal|`
+    /// (for `grid` the largest over its rounds; for the Sliding Frank–Wolfe solver from its
+    /// weak-duality lower bound; for the interior point from clarabel's primal and dual objectives).
+    pub duality_gap: Option<f64>,
     /// Minimum separation of the recovered support times `fc` (`None` for fewer than two spikes).
     pub separation_fc: Option<f64>,
     /// Residual norm `‖y − Fμ̂‖₂`.
@@ -298,6 +302,7 @@ impl Diagnostics {
             iterations: 0,
             solve_seconds: 0.0,
             objective: None,
+            duality_gap: None,
             separation_fc,
             residual_norm: data.residual_norm(spikes),
             data_norm: data.norm(),

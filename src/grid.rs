@@ -757,6 +757,7 @@ impl Estimator for GridL1 {
         let mut spikes = Spikes::empty();
         let mut iterations = 0;
         let mut objective = None;
+        let mut worst_gap: Option<f64> = None;
         let mut status = Status::Solved;
         // Round 0 analyses the data, later rounds the residual of the spikes found so far.
         for round in 0..self.settings.rounds {
@@ -775,6 +776,7 @@ impl Estimator for GridL1 {
             }
             let sol = fista(&op, &r, lambda, &self.settings);
             iterations += sol.iterations;
+            worst_gap = Some(worst_gap.map_or(sol.relative_gap, |g| g.max(sol.relative_gap)));
             if round == 0 {
                 objective = Some(sol.objective);
             }
@@ -809,6 +811,7 @@ impl Estimator for GridL1 {
         }
         diagnostics.iterations = iterations;
         diagnostics.objective = objective.or(Some(0.0));
+        diagnostics.duality_gap = worst_gap;
         diagnostics.assess_noise(data, &spikes, sigma, estimated);
         diagnostics.solve_seconds = start.elapsed().as_secs_f64();
         Ok(Estimate {

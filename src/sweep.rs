@@ -33,7 +33,9 @@ use crate::estimator::{Estimator, NoiseLevel, Status};
 use crate::metrics::{score, Score};
 use crate::model::{Measurements, Spikes};
 use crate::subspace::{OrderSelection, SubspaceSettings};
-use crate::{estimator_by_name, Ast, Esprit, Greedy, MatrixPencil, Music, Sfw, Tv, METHODS};
+use crate::{
+    estimator_by_name, Ast, Esprit, Greedy, GridL1, MatrixPencil, Music, Sfw, Tv, METHODS,
+};
 use serde::Serialize;
 use std::time::Instant;
 
@@ -46,10 +48,13 @@ pub struct MethodOptions {
     pub order: Option<usize>,
 }
 
-/// Whether the named method works with a noise level (the convex methods and `greedy`; the subspace
-/// methods do not use one).
+/// Whether the named method works with a noise level: the convex methods, `grid` and `greedy` in the
+/// estimate itself, the subspace methods in their diagnostics only (residual check, plug-in CRB).
 pub fn takes_noise_level(name: &str) -> bool {
-    matches!(name, "sdp" | "ast" | "sfw" | "greedy")
+    matches!(
+        name,
+        "sdp" | "ast" | "sfw" | "grid" | "greedy" | "music" | "esprit" | "pencil"
+    )
 }
 
 /// Whether the named method takes a model order: the subspace methods (`music`, `esprit`, `pencil`:
@@ -103,9 +108,10 @@ pub fn configure(name: &str, options: &MethodOptions) -> Result<Configured> {
         });
     }
     let subspace = |order: Option<usize>| -> Result<SubspaceSettings> {
+        let settings = SubspaceSettings::default().with_noise(noise)?;
         match order {
-            Some(n) => SubspaceSettings::default().with_order(OrderSelection::Given(n)),
-            None => Ok(SubspaceSettings::default()),
+            Some(n) => settings.with_order(OrderSelection::Given(n)),
+            None => Ok(settings),
         }
     };
     let mut unused = Vec::new();
@@ -125,6 +131,10 @@ pub fn configure(name: &str, options: &MethodOptions) -> Result<Configured> {
         "sfw" => Box::new(Sfw {
             noise,
             ..Sfw::default()
+        }),
+        "grid" => Box::new(GridL1 {
+            noise,
+            ..GridL1::default()
         }),
         "greedy" => {
             let g = Greedy {
@@ -583,10 +593,9 @@ mod tests {
             noise: NoiseLevel::Known(0.1),
             order: None,
         };
-        assert_eq!(
-            configure("music", &known).unwrap().unused,
-            vec!["noise level"]
-        );
+        // The subspace methods use a given σ in their diagnostics.
+        let music = configure("music", &known).unwrap();
+        assert!(music.unused.is_empty() && !music.defaults_only);
         let sdp = configure("sdp", &known).unwrap();
         assert!(sdp.unused.is_empty() && !sdp.defaults_only);
         let bad = MethodOptions {

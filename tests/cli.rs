@@ -147,6 +147,7 @@ fn recover_json_has_a_fixed_shape() {
             ("iterations", &["number"]),
             ("solve_seconds", &["number"]),
             ("objective", &["number", "null"]),
+            ("duality_gap", &["number", "null"]),
             ("separation_fc", &["number", "null"]),
             ("residual_norm", &["number"]),
             ("data_norm", &["number"]),
@@ -861,7 +862,7 @@ fn estimator_and_output_failures_have_their_exit_codes() {
         let out = run(&args);
         assert_eq!(out.status.code(), Some(2), "{args:?}: {}", stderr(&out));
     }
-    // A method that does not use σ says so.
+    // A subspace method takes a given σ into its diagnostics (it does not estimate it).
     let out = run(&[
         "recover",
         "-i",
@@ -871,8 +872,9 @@ fn estimator_and_output_failures_have_their_exit_codes() {
         "--sigma",
         "0.1",
     ]);
-    ok(&out);
-    assert!(stderr(&out).contains("does not use a noise level"));
+    let v: Value = serde_json::from_str(&ok(&out)).unwrap();
+    assert_eq!(v["diagnostics"]["sigma"].as_f64(), Some(0.1));
+    assert_eq!(v["diagnostics"]["sigma_estimated"].as_bool(), Some(false));
 }
 
 #[test]

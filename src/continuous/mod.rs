@@ -318,6 +318,15 @@ pub fn solve(data: &Measurements, problem: Problem, settings: &SfwSettings) -> R
     })
 }
 
+/// `(primal − dual)/|primal|`, 0 for a zero primal value.
+pub(crate) fn relative_gap(primal: f64, dual: f64) -> f64 {
+    if primal == 0.0 {
+        0.0
+    } else {
+        (primal - dual) / primal.abs()
+    }
+}
+
 /// [`Diagnostics::solver`] of an estimate made by this module's solver.
 pub const SLIDING_FRANK_WOLFE: &str = "sliding Frank-Wolfe (certified)";
 
@@ -375,6 +384,7 @@ pub(crate) fn solve_tv(
     diagnostics.certificate = Some(cert);
     diagnostics.iterations = sol.iterations;
     diagnostics.objective = Some(sol.objective);
+    diagnostics.duality_gap = Some(relative_gap(sol.objective, sol.lower_bound));
     diagnostics.solver = Some(SLIDING_FRANK_WOLFE);
     diagnostics.assess_noise(data, &spikes, sigma, sigma_estimated);
     diagnostics.solve_seconds = start.elapsed().as_secs_f64();

@@ -230,6 +230,7 @@ struct SolveReport {
     status: Status,
     iterations: usize,
     objective: f64,
+    gap: f64,
 }
 
 /// Assemble and solve one formulation; return the dual polynomial (`|q| ≤ 1`, `q = 1` on the support).
@@ -259,6 +260,7 @@ fn solve_dual(
             status: sol.status,
             iterations: sol.iterations,
             objective: 0.5 * (sol.primal_objective + sol.dual_objective),
+            gap: continuous::relative_gap(sol.primal_objective, sol.dual_objective).abs(),
         },
     ))
 }
@@ -309,6 +311,7 @@ fn finish(
     diagnostics.certificate = Some(cert);
     diagnostics.iterations = report.iterations;
     diagnostics.objective = Some(report.objective);
+    diagnostics.duality_gap = Some(report.gap);
     diagnostics.solver = Some(INTERIOR_POINT);
     diagnostics.assess_noise(data, &spikes, sigma, sigma_estimated);
     diagnostics.solve_seconds = start.elapsed().as_secs_f64();

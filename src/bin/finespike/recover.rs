@@ -88,6 +88,9 @@ pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> 
         1 => "after 1 iteration".to_string(),
         n => format!("after {n} iterations"),
     };
+    if let Some(gap) = d.duality_gap {
+        steps = format!("{steps}, relative duality gap {gap:.1e}");
+    }
     if let Some(solver) = d.solver {
         steps = format!("{solver}, {steps}");
     }
