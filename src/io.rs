@@ -21,6 +21,10 @@ pub struct SampleRows {
     pub indices: Vec<i64>,
     /// The values, in file order.
     pub values: Vec<Complex64>,
+    /// The one-based line of each row in the file.
+    pub lines: Vec<usize>,
+    /// The file's name, for error messages.
+    pub source_name: String,
 }
 
 impl SampleRows {
@@ -30,8 +34,48 @@ impl SampleRows {
     /// `n = 0..N−1` with `N` the largest `n` plus one (gaps allowed).
     ///
     /// # Errors
-    /// Any validation error of [`Measurements`].
+    /// [`Error::Parse`] with the line for an index given twice (naming the line of its first
+    /// occurrence), a Fourier index outside the band `−fc..=fc` of a given `fc`, or a negative sample
+    /// time; any other validation error of [`Measurements`].
     pub fn into_measurements(self, fc: Option<usize>) -> Result<Measurements> {
+        let col = match self.domain {
+            Domain::Fourier => "k",
+            Domain::Time => "n",
+        };
+        let parse_err = |row: usize, message: String| Error::Parse {
+            source_name: self.source_name.clone(),
+            line: self.lines.get(row).copied().unwrap_or(0),
+            message,
+        };
+        let mut first: std::collections::HashMap<i64, usize> = std::collections::HashMap::new();
+        for (row, &k) in self.indices.iter().enumerate() {
+            if let Some(&prev) = first.get(&k) {
+                let earlier = match self.lines.get(prev) {
+                    Some(l) => format!(" (first on line {l})"),
+                    None => String::new(),
+                };
+                return Err(parse_err(
+                    row,
+                    format!("found {col} = {k} again{earlier}, expected each {col} at most once"),
+                ));
+            }
+            first.insert(k, row);
+            match (self.domain, fc) {
+                (Domain::Fourier, Some(f)) if k.unsigned_abs() > f as u64 => {
+                    return Err(parse_err(
+                        row,
+                        format!("found k = {k}, expected |k| <= fc = {f} (the band -{f}..{f})"),
+                    ));
+                }
+                (Domain::Time, _) if k < 0 => {
+                    return Err(parse_err(
+                        row,
+                        format!("found n = {k}, expected a sample time n >= 0"),
+                    ));
+                }
+                _ => {}
+            }
+        }
         match self.domain {
             Domain::Fourier => {
                 let fc = match fc {
@@ -53,14 +97,23 @@ impl SampleRows {
 /// Parse sample CSV text. `source_name` is used in error messages.
 ///
 /// # Errors
-/// [`Error::Parse`] with the line number for a wrong header, a wrong number of fields, a value that is
-/// not a number, or an index that is not an integer; [`Error::Empty`] for a file without rows.
+/// [`Error::Parse`] with the line number for an empty file (line 1), a wrong header, a file without
+/// data rows (line 2), a wrong number of fields, a value that is not a finite number, or an index that
+/// is not an integer.
 pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
     let parse_err = |line: usize, message: String| Error::Parse {
         source_name: source_name.to_string(),
         line,
         message,
     };
+    if text.trim().is_empty() {
+        return Err(parse_err(
+            1,
+            "found an empty file, expected the header 'k,re,im' (Fourier coefficients) or 'n,re,im' \
+             (time samples) and one row per sample"
+                .into(),
+        ));
+    }
     let mut reader = csv::ReaderBuilder::new()
         .has_headers(true)
         .trim(csv::Trim::All)
@@ -86,12 +139,18 @@ pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
     };
     let mut indices = Vec::new();
     let mut values = Vec::new();
+    let mut lines = Vec::new();
+    let mut lines_seen = LineCounter::default();
     for record in reader.records() {
         let record = record.map_err(|e| {
             let line = e.position().map_or(0, |p| p.line() as usize);
             parse_err(line, format!("unreadable row: {e}"))
         })?;
-        let line = record.position().map_or(0, |p| p.line() as usize);
+        // The reader's record position is where it started reading, blank lines before the record
+        // included; the record's own line is that of its first non-blank character.
+        let line = record
+            .position()
+            .map_or(0, |p| lines_seen.line_of(text, p.byte() as usize));
         if record.len() == 1 && record.get(0) == Some("") {
             continue; // blank line
         }
@@ -138,17 +197,45 @@ pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
         let im = num(2)?;
         indices.push(k);
         values.push(Complex64::new(re, im));
+        lines.push(line);
     }
     if indices.is_empty() {
-        return Err(Error::Empty {
-            what: "sample file (no data rows)",
-        });
+        return Err(parse_err(
+            2,
+            "found no data rows after the header, expected at least one row of three numbers"
+                .into(),
+        ));
     }
     Ok(SampleRows {
         domain,
         indices,
         values,
+        lines,
+        source_name: source_name.to_string(),
     })
+}
+
+/// One-based line numbers of byte offsets visited in increasing order, counted incrementally.
+#[derive(Default)]
+struct LineCounter {
+    byte: usize,
+    newlines: usize,
+}
+
+impl LineCounter {
+    /// The line of the first character at or after `byte` that is not white space.
+    fn line_of(&mut self, text: &str, byte: usize) -> usize {
+        let bytes = text.as_bytes();
+        let mut at = byte.min(bytes.len());
+        while at < bytes.len() && bytes[at].is_ascii_whitespace() {
+            at += 1;
+        }
+        if at >= self.byte {
+            self.newlines += bytes[self.byte..at].iter().filter(|&&b| b == b'\n').count();
+            self.byte = at;
+        }
+        self.newlines + 1
+    }
 }
 
 /// Read and parse a sample CSV file.
@@ -284,10 +371,41 @@ mod tests {
         assert!(e.to_string().contains("found 4 fields"), "{e}");
         let e = parse_samples("k,re,im\n0,NaN,0\n", "x.csv").unwrap_err();
         assert!(e.to_string().contains("finite"), "{e}");
-        assert!(matches!(
-            parse_samples("k,re,im\n", "x.csv"),
-            Err(Error::Empty { .. })
-        ));
+        let e = parse_samples("k,re,im\n", "x.csv").unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("x.csv, line 2: found no data rows"),
+            "{e}"
+        );
+        let e = parse_samples("\n", "x.csv").unwrap_err();
+        assert!(
+            e.to_string()
+                .starts_with("x.csv, line 1: found an empty file"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn duplicate_and_out_of_band_rows_name_their_lines() {
+        let rows = parse_samples("k,re,im\n0,1,0\n\n1,0,0\n0,2,0\n", "x.csv").unwrap();
+        assert_eq!(rows.lines, vec![2, 4, 5]);
+        let e = rows.into_measurements(None).unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "x.csv, line 5: found k = 0 again (first on line 2), expected each k at most once"
+        );
+        let rows = parse_samples("k,re,im\n0,1,0\n3,0,0\n", "x.csv").unwrap();
+        let e = rows.into_measurements(Some(2)).unwrap_err();
+        assert!(
+            e.to_string().starts_with("x.csv, line 3: found k = 3"),
+            "{e}"
+        );
+        let rows = parse_samples("n,re,im\n0,1,0\n-1,0,0\n", "x.csv").unwrap();
+        let e = rows.into_measurements(None).unwrap_err();
+        assert!(
+            e.to_string().starts_with("x.csv, line 3: found n = -1"),
+            "{e}"
+        );
     }
 
     #[test]
