@@ -22,6 +22,10 @@ pub struct Row {
     pub missed: usize,
     /// Fraction of trials with at least one spurious spike.
     pub spurious_rate: f64,
+    /// Trials whose status was not usable (iteration limit, numerical failure…).
+    pub unusable: usize,
+    /// Mean wall-clock seconds per estimate.
+    pub seconds: f64,
 }
 
 /// Run `trials` noise draws (seeded by `seed`) of level `sigma` on the exact data `clean` of `truth`.
@@ -37,6 +41,8 @@ pub fn run(
     let mut sq = vec![(0.0, 0usize); truth.len()];
     let mut missed = 0;
     let mut spurious_trials = 0;
+    let mut unusable = 0;
+    let mut seconds = 0.0;
     for _ in 0..trials {
         let noisy: Vec<Complex64> = clean
             .values()
@@ -48,7 +54,12 @@ pub fn run(
             })
             .collect();
         let data = clean.with_values(&noisy).expect("finite samples");
+        let start = std::time::Instant::now();
         let est = method.estimate(&data).expect("estimate");
+        seconds += start.elapsed().as_secs_f64();
+        if !est.status.is_usable() {
+            unusable += 1;
+        }
         let s = score(&est.spikes, truth, clean.fc()).expect("score");
         missed += s.missed;
         if s.spurious > 0 {
@@ -69,5 +80,7 @@ pub fn run(
         ratio,
         missed,
         spurious_rate: spurious_trials as f64 / trials as f64,
+        unusable,
+        seconds: seconds / trials.max(1) as f64,
     }
 }
