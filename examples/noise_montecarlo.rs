@@ -43,7 +43,7 @@ fn main() -> Result<(), finespike::Error> {
         for name in &names {
             let options = MethodOptions {
                 noise: NoiseLevel::Known(sigma),
-                order: None,
+                ..MethodOptions::default()
             };
             let method = configure(name, &options)?.estimator;
             let row = run(

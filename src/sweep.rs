@@ -13,7 +13,7 @@
 //! use finespike::sweep::{configure, run, MethodOptions, Tally};
 //! use finespike::{NoiseLevel, Scenario};
 //! // Invented scenes: 2 spikes at fc = 8, 2/fc apart, 30 dB, two seeds.
-//! let options = MethodOptions { noise: NoiseLevel::Estimate, order: None };
+//! let options = MethodOptions { noise: NoiseLevel::Estimate, ..MethodOptions::default() };
 //! let method = configure("esprit", &options)?;
 //! let mut tally = Tally::new("esprit");
 //! for seed in 0..2 {
@@ -34,7 +34,8 @@ use crate::metrics::{score, Score};
 use crate::model::{Measurements, Spikes};
 use crate::subspace::{OrderSelection, SubspaceSettings};
 use crate::{
-    estimator_by_name, Ast, Esprit, Greedy, GridL1, MatrixPencil, Music, Sfw, Tv, METHODS,
+    estimator_by_name, Ast, Backend, Esprit, Greedy, GridL1, MatrixPencil, Music, SdpSettings, Sfw,
+    Tv, METHODS,
 };
 use serde::Serialize;
 use std::time::Instant;
@@ -46,6 +47,8 @@ pub struct MethodOptions {
     pub noise: NoiseLevel,
     /// Model order (number of spikes), for the methods that take one (default: the method decides).
     pub order: Option<usize>,
+    /// Solver of the convex problem for `sdp` and `ast` (default [`Backend::Auto`]).
+    pub backend: Backend,
 }
 
 /// Whether the named method works with a noise level: the convex methods, `grid` and `greedy` in the
@@ -118,14 +121,19 @@ pub fn configure(name: &str, options: &MethodOptions) -> Result<Configured> {
     if noise != NoiseLevel::Estimate && !takes_noise_level(name) {
         unused.push("noise level");
     }
+    if options.backend != Backend::Auto && !matches!(name, "sdp" | "ast") {
+        unused.push("solver choice");
+    }
+    let convex = SdpSettings::default().with_backend(options.backend);
     let mut defaults_only = false;
     let estimator: Box<dyn Estimator> = match name {
         "sdp" => Box::new(Tv {
             noise,
-            ..Tv::default()
+            settings: convex,
         }),
         "ast" => Box::new(Ast {
             noise,
+            settings: convex,
             ..Ast::default()
         }),
         "sfw" => Box::new(Sfw {
@@ -572,6 +580,7 @@ mod tests {
         let with_order = MethodOptions {
             noise: NoiseLevel::Estimate,
             order: Some(2),
+            backend: Backend::Auto,
         };
         for name in METHODS {
             let r = configure(name, &with_order);
@@ -587,20 +596,46 @@ mod tests {
         let zero = MethodOptions {
             noise: NoiseLevel::Estimate,
             order: Some(0),
+            backend: Backend::Auto,
         };
         assert!(configure("esprit", &zero).is_err());
         let known = MethodOptions {
             noise: NoiseLevel::Known(0.1),
             order: None,
+            backend: Backend::Auto,
         };
         // The subspace methods use a given σ in their diagnostics.
         let music = configure("music", &known).unwrap();
         assert!(music.unused.is_empty() && !music.defaults_only);
         let sdp = configure("sdp", &known).unwrap();
         assert!(sdp.unused.is_empty() && !sdp.defaults_only);
+        // The solver choice reaches sdp and ast; other methods report it unused.
+        let sliding = MethodOptions {
+            noise: NoiseLevel::Exact,
+            order: None,
+            backend: Backend::SlidingFrankWolfe,
+        };
+        assert_eq!(
+            configure("esprit", &sliding).unwrap().unused,
+            vec!["solver choice"]
+        );
+        let one = Complex64::new(1.0, 0.0);
+        let truth = Spikes::from_parts(&[0.2, 0.6], &[one, one]).unwrap();
+        let k: Vec<i64> = (-8..=8).collect();
+        let data = Measurements::fourier(8, &k, &crate::model::forward(&truth, &k)).unwrap();
+        let est = configure("sdp", &sliding)
+            .unwrap()
+            .estimator
+            .estimate(&data)
+            .unwrap();
+        assert_eq!(
+            est.diagnostics.solver,
+            Some(crate::continuous::SLIDING_FRANK_WOLFE)
+        );
         let bad = MethodOptions {
             noise: NoiseLevel::Known(-1.0),
             order: None,
+            backend: Backend::Auto,
         };
         assert!(configure("sdp", &bad).is_err());
     }
@@ -617,6 +652,7 @@ mod tests {
             let opts = MethodOptions {
                 noise: NoiseLevel::Exact,
                 order: Some(1),
+                backend: Backend::Auto,
             };
             let c = configure(name, &opts).unwrap();
             let o = run(c.estimator.as_ref(), &data, &truth, None);

@@ -875,6 +875,34 @@ fn estimator_and_output_failures_have_their_exit_codes() {
     let v: Value = serde_json::from_str(&ok(&out)).unwrap();
     assert_eq!(v["diagnostics"]["sigma"].as_f64(), Some(0.1));
     assert_eq!(v["diagnostics"]["sigma_estimated"].as_bool(), Some(false));
+    // --solver picks the solver of sdp/ast, and is noted as ignored elsewhere.
+    let out = run(&[
+        "recover",
+        "-i",
+        s(&case("nz_fc08_snr30")),
+        "--solver",
+        "sliding",
+    ]);
+    let v: Value = serde_json::from_str(&ok(&out)).unwrap();
+    assert!(v["diagnostics"]["solver"]
+        .as_str()
+        .unwrap()
+        .contains("Frank-Wolfe"));
+    let out = run(&[
+        "recover",
+        "-i",
+        s(&case("nz_fc08_snr30")),
+        "-m",
+        "esprit",
+        "--solver",
+        "interior-point",
+    ]);
+    ok(&out);
+    assert!(
+        stderr(&out).contains("--solver is ignored"),
+        "{}",
+        stderr(&out)
+    );
 }
 
 #[test]

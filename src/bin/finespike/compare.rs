@@ -1,7 +1,7 @@
 //! `compare`: several estimators on one file, or on a sweep of invented scenes, in one table.
 
 use crate::simulate::{scene_error, SceneArgs};
-use crate::{input, noise_level, shown, DomainArg, Failure, ReportFormat};
+use crate::{input, noise_level, shown, DomainArg, Failure, ReportFormat, SolverArg};
 use clap::{ArgGroup, Args, ValueEnum};
 use finespike::sweep::{self, configure, takes_order, MethodOptions, Outcome, Summary, Tally};
 use finespike::{crb_for, Error, Estimate, Estimator, NoiseLevel, METHODS};
@@ -47,6 +47,9 @@ pub struct CompareArgs {
     /// choose their own and a note says so.
     #[arg(long)]
     order: Option<usize>,
+    /// Solver of the convex problem for sdp and ast (see `recover --help`).
+    #[arg(long, value_enum, default_value_t = SolverArg::Auto)]
+    solver: SolverArg,
     /// Cutoff fc: of the band of --input (default: the largest |k|), or of the invented scenes
     /// (default 16).
     #[arg(long)]
@@ -97,10 +100,17 @@ fn build(
     name: &str,
     noise: NoiseLevel,
     order: Option<usize>,
+    solver: SolverArg,
 ) -> Result<Box<dyn Estimator>, Failure> {
+    let backend = solver.backend();
     let options = MethodOptions {
         noise,
         order: order.filter(|_| takes_order(name)),
+        backend: if matches!(name, "sdp" | "ast") {
+            backend
+        } else {
+            finespike::Backend::Auto
+        },
     };
     configure(name, &options)
         .map(|c| c.estimator)
@@ -183,7 +193,7 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
     let domain = a.domain.unwrap_or(DomainArg::Fourier);
     // Settings errors surface before the first trial, not in the middle of the progress bar.
     for m in methods {
-        build(m, NoiseLevel::Estimate, a.order)?;
+        build(m, NoiseLevel::Estimate, a.order, a.solver)?;
     }
     let mut tallies: Vec<Tally> = methods.iter().map(|m| Tally::new(m)).collect();
     let bar = progress(trials * methods.len());
@@ -205,7 +215,7 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             .flatten();
         for (m, tally) in methods.iter().zip(tallies.iter_mut()) {
             bar.set_prefix(*m);
-            let est = build(m, noise, a.order)?;
+            let est = build(m, noise, a.order, a.solver)?;
             let outcome = sweep::run(est.as_ref(), &sample.data, &sample.truth, bound.as_ref());
             tally.add(&outcome);
             bar.inc(1);
@@ -343,7 +353,7 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
     let bound = crb_sigma.and_then(|s| crb_for(&data, &truth.spikes, s).ok());
     let mut rows: Vec<(Summary, Outcome)> = Vec::new();
     for m in methods {
-        let est = build(m, noise, a.order)?;
+        let est = build(m, noise, a.order, a.solver)?;
         let outcome = sweep::run(est.as_ref(), &data, &truth.spikes, bound.as_ref());
         let mut tally = Tally::new(m);
         tally.add(&outcome);
@@ -415,7 +425,7 @@ fn file_without_truth(
 ) -> Result<(), Failure> {
     let mut results: Vec<(&str, Result<Estimate, Error>, f64)> = Vec::new();
     for m in methods {
-        let est = build(m, noise, a.order)?;
+        let est = build(m, noise, a.order, a.solver)?;
         let start = Instant::now();
         let r = est.estimate(data);
         results.push((m, r, start.elapsed().as_secs_f64()));

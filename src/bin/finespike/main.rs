@@ -133,6 +133,32 @@ struct MethodArgs {
     /// greedy (any other method refuses it); omitted: the method decides (MDL, or the residual).
     #[arg(long)]
     order: Option<usize>,
+    /// Solver of the convex problem, for sdp and ast: `auto` uses the interior point below fc = 25
+    /// and the certified sliding Frank–Wolfe solver from there on.
+    #[arg(long, value_enum, default_value_t = SolverArg::Auto)]
+    solver: SolverArg,
+}
+
+/// `--solver`: which solver runs the convex problem of `sdp` and `ast`.
+#[derive(ValueEnum, Clone, Copy, Debug, PartialEq, Eq)]
+pub enum SolverArg {
+    /// Interior point below fc = 25, sliding Frank–Wolfe from there on.
+    Auto,
+    /// clarabel's interior point on the compact SDP (cost grows like N^5 or faster).
+    InteriorPoint,
+    /// The certified sliding Frank–Wolfe solver (for long records).
+    Sliding,
+}
+
+impl SolverArg {
+    /// The library's backend.
+    pub fn backend(self) -> finespike::Backend {
+        match self {
+            SolverArg::Auto => finespike::Backend::Auto,
+            SolverArg::InteriorPoint => finespike::Backend::InteriorPoint,
+            SolverArg::Sliding => finespike::Backend::SlidingFrankWolfe,
+        }
+    }
 }
 
 /// Why a command failed; each maps to an exit code.
@@ -192,6 +218,7 @@ fn configure(args: &MethodArgs) -> Result<Box<dyn finespike::Estimator>, Failure
     let options = finespike::sweep::MethodOptions {
         noise: noise_level(args.sigma),
         order: args.order,
+        backend: args.solver.backend(),
     };
     let configured = finespike::sweep::configure(&args.method, &options).map_err(|e| match e {
         Error::Unsupported { method, reason } => Failure::Usage(format!(
@@ -206,8 +233,13 @@ fn configure(args: &MethodArgs) -> Result<Box<dyn finespike::Estimator>, Failure
         );
     } else {
         for what in &configured.unused {
+            let flag = if *what == "noise level" {
+                "--sigma"
+            } else {
+                "--solver"
+            };
             eprintln!(
-                "note: method '{}' does not use a {what}; --sigma is ignored",
+                "note: method '{}' does not use a {what}; {flag} is ignored",
                 args.method
             );
         }
