@@ -58,6 +58,7 @@ use crate::amplitudes;
 use crate::error::{Error, Result};
 use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status};
 use crate::model::{wrap, Measurements};
+use crate::postprocess::PostProcess;
 use crate::refine::{refine, RefineSettings};
 use faer::c64;
 use hankel::{HankelOperator, RandomizedParams, Subspace};
@@ -104,10 +105,16 @@ pub struct SubspaceSettings {
     pub seed: u64,
     /// Local least-squares polish of positions and amplitudes (default `None`: the classical method).
     pub refine: Option<RefineSettings>,
-    /// Noise level for the diagnostics (residual check and plug-in Cramér–Rao bound; the estimate
-    /// itself does not use it). Default: estimated from the data ([`crate::noise::estimate_sigma`]);
-    /// records too short to estimate it are reported without.
+    /// Noise level for the diagnostics (residual check and plug-in Cramér–Rao bound) and for
+    /// [`SubspaceSettings::prune`]. Default: estimated from the data
+    /// ([`crate::noise::estimate_sigma`]); records too short to estimate it are reported without.
     pub noise: NoiseLevel,
+    /// With a noise level and an order chosen by MDL or AIC, drop the components the noise cannot
+    /// support — the 4σ amplitude floor and the significance test of [`PostProcess`] — which removes
+    /// the extra components of an over-estimated order (MDL on a Hankel matrix over-estimates in a
+    /// few percent of noisy draws). A given order is kept. Default true; false gives the textbook
+    /// method's output.
+    pub prune: bool,
 }
 
 impl Default for SubspaceSettings {
@@ -124,6 +131,7 @@ impl Default for SubspaceSettings {
             seed: 0,
             refine: None,
             noise: NoiseLevel::Estimate,
+            prune: true,
         }
     }
 }
@@ -234,6 +242,12 @@ impl SubspaceSettings {
     pub fn with_noise(mut self, noise: NoiseLevel) -> Result<Self> {
         self.noise = noise.validated()?;
         Ok(self)
+    }
+
+    /// Turn the pruning of components the noise cannot support on or off.
+    pub fn with_prune(mut self, prune: bool) -> Self {
+        self.prune = prune;
+        self
     }
 
     /// Turn the least-squares polish on (with these settings) or off (`None`, the default).
@@ -448,22 +462,40 @@ pub(crate) fn run(
             (z.into_iter().map(position).collect(), sub.power_iterations)
         }
     };
-    let mut spikes = amplitudes::fit(data, &positions)?;
+    // A numerical-rank order means the data were judged exact: no noise level is estimated then.
+    let judged_exact = prepared.order.method == OrderMethod::NumericalRank;
+    let (sigma, estimated) = match (settings.noise, judged_exact) {
+        (NoiseLevel::Estimate, true) => (None, false),
+        (noise, _) => match crate::noise::resolve_noise(data, noise) {
+            Ok(level) => level,
+            // Too short a record to estimate σ: no noise assessment and no pruning (both optional).
+            Err(Error::Unsupported { .. }) => (None, false),
+            Err(e) => return Err(e),
+        },
+    };
+    // An order chosen by a statistical criterion can be over-estimated; a given or numerical-rank
+    // order is kept as it is.
+    let statistical = matches!(prepared.order.method, OrderMethod::Mdl | OrderMethod::Aic);
     let mut refine_steps = 0;
-    if let Some(rs) = settings.refine {
-        let refined = refine(data, &spikes, rs)?;
-        spikes = refined.spikes;
-        refine_steps = refined.iterations;
-    }
+    let spikes = match sigma {
+        // With noise, components the noise cannot support (an over-estimated order) are dropped by
+        // the shared post-processing: 4σ amplitude floor and significance test of close spikes.
+        Some(_) if settings.prune && statistical => PostProcess::default()
+            .with_refine(settings.refine)
+            .apply(data, &positions, sigma)?,
+        _ => {
+            let mut spikes = amplitudes::fit(data, &positions)?;
+            if let Some(rs) = settings.refine {
+                let refined = refine(data, &spikes, rs)?;
+                spikes = refined.spikes;
+                refine_steps = refined.iterations;
+            }
+            spikes
+        }
+    };
     let mut diagnostics = Diagnostics::describe(data, &spikes);
     diagnostics.iterations = power_iterations + refine_steps;
     diagnostics.model_order = Some(prepared.order);
-    let (sigma, estimated) = match crate::noise::resolve_noise(data, settings.noise) {
-        Ok(level) => level,
-        // Too short a record to estimate σ: no noise assessment (it is optional here).
-        Err(Error::Unsupported { .. }) => (None, false),
-        Err(e) => return Err(e),
-    };
     diagnostics.assess_noise(data, &spikes, sigma, estimated);
     diagnostics.solve_seconds = prepared.start.elapsed().as_secs_f64();
     Ok(Estimate {
