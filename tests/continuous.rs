@@ -207,23 +207,7 @@ fn noisy_reference_cases_within_four_crb_deviations() {
         let sigma = c.truth.sigma.unwrap();
         let est = Sfw::with_sigma(sigma).estimate(&c.data).unwrap();
         assert_certified(&name, &est);
-        let s = score(&est.spikes, &c.truth.spikes, c.data.fc());
-        assert_eq!(
-            (s.found, s.spurious),
-            (c.truth.spikes.len(), 0),
-            "{name}: {s:?}"
-        );
-        for (pos, std) in common::crb_std(&name) {
-            let nearest = est
-                .spikes
-                .iter()
-                .map(|x| wrap_distance(x.position, pos))
-                .fold(f64::INFINITY, f64::min);
-            assert!(
-                nearest <= 4.0 * std,
-                "{name}: error {nearest:e} vs CRB std {std:e}"
-            );
-        }
+        common::assert_within_four_crb(&name, &est.spikes, &c.truth.spikes, c.data.fc());
     }
 }
 

@@ -4,7 +4,7 @@ mod common;
 
 use common::{case_names, load_case, score};
 use finespike::greedy::{Greedy, GreedySettings};
-use finespike::{wrap_distance, Domain, Estimator, Scenario, Status};
+use finespike::{Domain, Estimator, Scenario, Status};
 
 /// Noiseless reference cases at separation ≥ 1.26/fc, subsampled and time-domain cases: positions to
 /// 1e-8/fc. The final fit is the least-squares minimiser on the exact model, whose error is rounding
@@ -38,33 +38,13 @@ fn noiseless_reference_cases_to_rounding_level() {
 /// standard deviations (a single draw: 4σ is exceeded with probability 6e-5 per spike).
 #[test]
 fn noisy_reference_cases_within_four_crb_deviations() {
-    for name in case_names("nz_")
-        .into_iter()
-        .filter(|n| !n.contains("snr10"))
-        .chain(case_names("td_").into_iter().filter(|n| n.contains("snr")))
-    {
+    for name in common::noisy_case_names() {
         let c = load_case(&name);
         let sigma = c.truth.sigma.unwrap();
         let est = Greedy::with_sigma(sigma).estimate(&c.data).unwrap();
         assert_eq!(est.status, Status::Solved, "{name}");
         assert_eq!(est.diagnostics.sigma, Some(sigma));
-        let s = score(&est.spikes, &c.truth.spikes, c.data.fc());
-        assert_eq!(
-            (s.found, s.spurious),
-            (c.truth.spikes.len(), 0),
-            "{name}: {s:?}"
-        );
-        for (pos, std) in common::crb_std(&name) {
-            let nearest = est
-                .spikes
-                .iter()
-                .map(|x| wrap_distance(x.position, pos))
-                .fold(f64::INFINITY, f64::min);
-            assert!(
-                nearest <= 4.0 * std,
-                "{name}: error {nearest:e} vs CRB std {std:e}"
-            );
-        }
+        common::assert_within_four_crb(&name, &est.spikes, &c.truth.spikes, c.data.fc());
         // The stopping rule: ‖r‖² ≤ σ²(|K| + 2√|K|).
         let m = c.data.len() as f64;
         let r = est.diagnostics.residual_norm;

@@ -1,7 +1,7 @@
 //! Noise-aware convex recovery (`sdp` with a noise level, `ast`) on the noisy reference cases.
 mod common;
 
-use common::{case_names, load_case, score};
+use common::{case_names, load_case};
 use finespike::{Ast, Estimator, Tv};
 
 /// Every position within 4 CRB standard deviations, nothing missed or spurious, at SNR ≥ 20 dB.
@@ -11,27 +11,7 @@ fn check_case(est: &dyn Estimator, name: &str) {
     let sigma = c.truth.sigma.unwrap();
     let e = est.estimate(&c.data).unwrap();
     assert!(e.status.is_usable(), "{name}: {}", e.status);
-    let s = score(&e.spikes, &c.truth.spikes, c.data.fc());
-    assert_eq!(
-        s.found,
-        c.truth.spikes.len(),
-        "{} {name}: {s:?} {:?}",
-        est.name(),
-        e.spikes
-    );
-    assert_eq!(s.spurious, 0, "{} {name}: {s:?}", est.name());
-    for (pos, std) in common::crb_std(name) {
-        let nearest = e
-            .spikes
-            .iter()
-            .map(|x| finespike::wrap_distance(x.position, pos))
-            .fold(f64::INFINITY, f64::min);
-        assert!(
-            nearest <= 4.0 * std,
-            "{} {name}: error {nearest:e} vs CRB std {std:e}",
-            est.name()
-        );
-    }
+    common::assert_within_four_crb(name, &e.spikes, &c.truth.spikes, c.data.fc());
     assert_eq!(e.diagnostics.sigma, Some(sigma));
 }
 

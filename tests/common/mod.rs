@@ -117,3 +117,35 @@ pub fn crb_std(name: &str) -> Vec<(f64, f64)> {
         })
         .collect()
 }
+
+/// The noisy reference cases at SNR ≥ 20 dB: `nz_*` without `snr10`, and the noisy time-domain cases.
+pub fn noisy_case_names() -> Vec<String> {
+    case_names("nz_")
+        .into_iter()
+        .filter(|n| !n.contains("snr10"))
+        .chain(case_names("td_").into_iter().filter(|n| n.contains("snr")))
+        .collect()
+}
+
+/// The acceptance check on a noisy reference case: nothing missed or spurious, and every true position
+/// within 4 CRB standard deviations of a recovered one (the reference CRB files, computed with numpy
+/// from the Fisher matrix of Stoica & Nehorai 1989, IEEE TASSP 37(5); a single Gaussian draw exceeds
+/// 4σ with probability 6e-5 per spike).
+pub fn assert_within_four_crb(name: &str, spikes: &Spikes, truth: &Spikes, fc: f64) {
+    let s = score(spikes, truth, fc);
+    assert_eq!(
+        (s.found, s.spurious),
+        (truth.len(), 0),
+        "{name}: {s:?} {spikes:?}"
+    );
+    for (pos, std) in crb_std(name) {
+        let nearest = spikes
+            .iter()
+            .map(|x| wrap_distance(x.position, pos))
+            .fold(f64::INFINITY, f64::min);
+        assert!(
+            nearest <= 4.0 * std,
+            "{name}: error {nearest:e} vs CRB std {std:e}"
+        );
+    }
+}
