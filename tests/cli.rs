@@ -829,6 +829,11 @@ fn estimator_and_output_failures_have_their_exit_codes() {
     let out = run(&["recover", "-i", s(&csv), "-m", "esprit"]);
     assert_eq!(out.status.code(), Some(4), "{}", stderr(&out));
     ok(&run(&["recover", "-i", s(&csv), "--sigma", "0", "-q"]));
+    // compare: exit 4 only when no method could run; the table still names every error.
+    let out = run(&["compare", "-i", s(&csv), "--methods", "esprit,music"]);
+    assert_eq!(out.status.code(), Some(4), "{}", stderr(&out));
+    assert!(String::from_utf8_lossy(&out.stdout).contains("esprit: error"));
+    ok(&run(&["compare", "-i", s(&csv), "--methods", "esprit,sdp"]));
     // Unwritable output (exit 5).
     let out = run(&[
         "simulate",

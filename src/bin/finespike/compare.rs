@@ -22,7 +22,8 @@ use std::time::Instant;
 /// that did not converge), warned (runs whose estimate carried a warning).
 ///
 /// Sweep trial i uses seed --seed + i, so any trial can be redrawn with `simulate --seed`. A progress
-/// bar is shown on stderr when it is a terminal.
+/// bar is shown on stderr when it is a terminal. The exit code is 4 when no method produced an
+/// estimate at all (the table is printed first and names the errors).
 #[derive(Args, Debug)]
 #[command(
     group(ArgGroup::new("source").required(true).args(["input", "trials"])),
@@ -94,6 +95,18 @@ fn method_list(asked: &[String]) -> Result<Vec<&'static str>, Failure> {
         }
     }
     Ok(out)
+}
+
+/// Exit 4 when no method produced an estimate on any data set (the table, printed first, says why).
+fn every_run_failed(all_failed: bool) -> Result<(), Failure> {
+    if all_failed {
+        return Err(Failure::Estimate(Error::Unsupported {
+            method: "compare".into(),
+            reason: "no method produced an estimate on these data (the errors are in the table)"
+                .into(),
+        }));
+    }
+    Ok(())
 }
 
 fn build(
@@ -303,7 +316,7 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
         }
     };
     print!("{text}");
-    Ok(())
+    every_run_failed(summaries.iter().all(|s| s.errors == s.trials))
 }
 
 fn legend(noisy: bool) -> String {
@@ -412,7 +425,7 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
         }
     };
     print!("{text}");
-    Ok(())
+    every_run_failed(summaries.iter().all(|s| s.errors == s.trials))
 }
 
 /// Without a truth: each method's own figures side by side, and its spikes.
@@ -511,5 +524,5 @@ fn file_without_truth(
         }
     };
     print!("{text}");
-    Ok(())
+    every_run_failed(results.iter().all(|r| r.1.is_err()))
 }
