@@ -181,6 +181,14 @@ pub enum Warning {
         /// Largest plug-in CRB standard deviation of a position, in Rayleigh units.
         worst_std_fc: f64,
     },
+    /// A model order chosen by a statistical criterion was larger than the number of components the
+    /// noise supports; the weakest were dropped (the subspace methods' pruning).
+    OrderPruned {
+        /// The order the criterion chose.
+        estimated: usize,
+        /// The spikes kept.
+        kept: usize,
+    },
 }
 
 impl fmt::Display for Warning {
@@ -228,6 +236,11 @@ impl fmt::Display for Warning {
                 "NOISE-LIMITED: the noise allows position errors of ±{worst_std_fc:.3}/fc (one \
                  standard deviation, Cramér–Rao bound) — comparable to the line spacing or the \
                  resolution claimed; treat close lines with caution"
+            ),
+            Warning::OrderPruned { estimated, kept } => write!(
+                f,
+                "the model-order criterion chose {estimated} components but only {kept} stand above \
+                 the noise; the others were dropped"
             ),
         }
     }

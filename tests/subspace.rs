@@ -669,6 +669,16 @@ fn pruning_removes_components_of_an_overestimated_order() {
         kept_spurious += s.spurious;
         let s = score(&pruned.spikes, &sample.truth, 32.0);
         pruned_spurious += s.spurious;
+        // A pruned order is said in the warnings.
+        let order = pruned.diagnostics.model_order.unwrap().order;
+        assert_eq!(
+            pruned.spikes.len() < order,
+            pruned
+                .diagnostics
+                .warnings
+                .iter()
+                .any(|w| matches!(w, finespike::Warning::OrderPruned { .. }))
+        );
         pruned_missed += sample.truth.len() - s.found;
     }
     eprintln!("spurious without pruning {kept_spurious}, with {pruned_spurious}");

@@ -56,7 +56,7 @@ pub use pencil::MatrixPencil;
 
 use crate::amplitudes;
 use crate::error::{Error, Result};
-use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status};
+use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status, Warning};
 use crate::model::{wrap, Measurements};
 use crate::postprocess::PostProcess;
 use crate::refine::{refine, RefineSettings};
@@ -494,6 +494,12 @@ pub(crate) fn run(
         }
     };
     let mut diagnostics = Diagnostics::describe(data, &spikes);
+    if spikes.len() < prepared.order.order && statistical {
+        diagnostics.warnings.push(Warning::OrderPruned {
+            estimated: prepared.order.order,
+            kept: spikes.len(),
+        });
+    }
     diagnostics.iterations = power_iterations + refine_steps;
     diagnostics.model_order = Some(prepared.order);
     diagnostics.assess_noise(data, &spikes, sigma, estimated);
