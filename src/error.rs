@@ -126,9 +126,15 @@ pub(crate) mod check {
         Ok(n)
     }
 
-    /// A value that must satisfy `ok` (NaN fails every range test written as `lo <= v`).
-    pub(crate) fn that(name: &'static str, v: f64, ok: bool, rule: &'static str) -> Result<f64> {
-        if !ok || v.is_nan() {
+    /// A value that must satisfy `ok`; callers write `ok` so that NaN fails it (range tests such as
+    /// `(lo..=hi).contains(&v)` and comparisons do).
+    pub(crate) fn that<T: ToString>(
+        name: &'static str,
+        v: T,
+        ok: bool,
+        rule: &'static str,
+    ) -> Result<T> {
+        if !ok {
             return Err(Error::invalid(name, v, rule));
         }
         Ok(v)

@@ -78,14 +78,12 @@ impl GreedySettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_grid_oversample(mut self, oversample: usize) -> Result<Self> {
-        if !(8..=64).contains(&oversample) {
-            return Err(Error::invalid(
-                "grid_oversample",
-                oversample,
-                "must lie in 8..=64",
-            ));
-        }
-        self.grid_oversample = oversample;
+        self.grid_oversample = check::that(
+            "grid_oversample",
+            oversample,
+            (8..=64).contains(&oversample),
+            "must lie in 8..=64",
+        )?;
         Ok(self)
     }
 
@@ -94,14 +92,12 @@ impl GreedySettings {
     /// # Errors
     /// [`Error::InvalidSetting`] otherwise.
     pub fn with_floor_sigmas(mut self, k: f64) -> Result<Self> {
-        if !(k.is_finite() && k >= 0.0) {
-            return Err(Error::invalid(
-                "floor_sigmas",
-                k,
-                "must be non-negative and finite",
-            ));
-        }
-        self.floor_sigmas = k;
+        self.floor_sigmas = check::that(
+            "floor_sigmas",
+            k,
+            k.is_finite() && k >= 0.0,
+            "must be non-negative and finite",
+        )?;
         Ok(self)
     }
 
@@ -110,14 +106,12 @@ impl GreedySettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_merge_distance_fc(mut self, d: f64) -> Result<Self> {
-        if !(0.0..=0.5).contains(&d) {
-            return Err(Error::invalid(
-                "merge_distance_fc",
-                d,
-                "must lie in [0, 0.5]",
-            ));
-        }
-        self.merge_distance_fc = d;
+        self.merge_distance_fc = check::that(
+            "merge_distance_fc",
+            d,
+            (0.0..=0.5).contains(&d),
+            "must lie in [0, 0.5]",
+        )?;
         Ok(self)
     }
 

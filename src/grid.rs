@@ -195,14 +195,12 @@ impl GridSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_oversample(mut self, oversample: usize) -> Result<Self> {
-        if !(2..=64).contains(&oversample) {
-            return Err(Error::invalid(
-                "oversample",
-                oversample,
-                "must lie in 2..=64",
-            ));
-        }
-        self.oversample = oversample;
+        self.oversample = check::that(
+            "oversample",
+            oversample,
+            (2..=64).contains(&oversample),
+            "must lie in 2..=64",
+        )?;
         Ok(self)
     }
 
@@ -275,14 +273,12 @@ impl GridSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] above that.
     pub fn with_cluster_gap(mut self, gap: usize) -> Result<Self> {
-        if gap > self.oversample / 2 {
-            return Err(Error::invalid(
-                "cluster_gap",
-                gap,
-                "must be at most oversample / 2 grid points",
-            ));
-        }
-        self.cluster_gap = gap;
+        self.cluster_gap = check::that(
+            "cluster_gap",
+            gap,
+            gap <= self.oversample / 2,
+            "must be at most oversample / 2 grid points",
+        )?;
         Ok(self)
     }
 
@@ -291,10 +287,12 @@ impl GridSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_rounds(mut self, rounds: usize) -> Result<Self> {
-        if !(1..=10).contains(&rounds) {
-            return Err(Error::invalid("rounds", rounds, "must lie in 1..=10"));
-        }
-        self.rounds = rounds;
+        self.rounds = check::that(
+            "rounds",
+            rounds,
+            (1..=10).contains(&rounds),
+            "must lie in 1..=10",
+        )?;
         Ok(self)
     }
 

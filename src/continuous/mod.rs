@@ -170,14 +170,12 @@ impl SfwSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_tolerance(mut self, tolerance: f64) -> Result<Self> {
-        if !(1e-14..=1e-3).contains(&tolerance) {
-            return Err(Error::invalid(
-                "tolerance",
-                tolerance,
-                "must lie in [1e-14, 1e-3]",
-            ));
-        }
-        self.tolerance = tolerance;
+        self.tolerance = check::that(
+            "tolerance",
+            tolerance,
+            (1e-14..=1e-3).contains(&tolerance),
+            "must lie in [1e-14, 1e-3]",
+        )?;
         Ok(self)
     }
 
@@ -195,14 +193,12 @@ impl SfwSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_grid_oversample(mut self, oversample: usize) -> Result<Self> {
-        if !(8..=64).contains(&oversample) {
-            return Err(Error::invalid(
-                "grid_oversample",
-                oversample,
-                "must lie in 8..=64",
-            ));
-        }
-        self.grid_oversample = oversample;
+        self.grid_oversample = check::that(
+            "grid_oversample",
+            oversample,
+            (8..=64).contains(&oversample),
+            "must lie in 8..=64",
+        )?;
         Ok(self)
     }
 
@@ -211,14 +207,12 @@ impl SfwSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_weak_margin(mut self, margin: f64) -> Result<Self> {
-        if !(margin > 0.0 && margin < 0.5) {
-            return Err(Error::invalid(
-                "weak_margin",
-                margin,
-                "must lie in (0, 0.5)",
-            ));
-        }
-        self.weak_margin = margin;
+        self.weak_margin = check::that(
+            "weak_margin",
+            margin,
+            margin > 0.0 && margin < 0.5,
+            "must lie in (0, 0.5)",
+        )?;
         Ok(self)
     }
 

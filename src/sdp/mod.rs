@@ -123,14 +123,12 @@ impl SdpSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_tolerance(mut self, tolerance: f64) -> Result<Self> {
-        if !(tolerance > 0.0 && tolerance <= 1e-2) {
-            return Err(Error::invalid(
-                "tolerance",
-                tolerance,
-                "must lie in (0, 1e-2]",
-            ));
-        }
-        self.tolerance = tolerance;
+        self.tolerance = check::that(
+            "tolerance",
+            tolerance,
+            tolerance > 0.0 && tolerance <= 1e-2,
+            "must lie in (0, 1e-2]",
+        )?;
         Ok(self)
     }
 
@@ -148,14 +146,12 @@ impl SdpSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_support_tolerance(mut self, tol: f64) -> Result<Self> {
-        if !(tol > 0.0 && tol < 0.5) {
-            return Err(Error::invalid(
-                "support_tolerance",
-                tol,
-                "must lie in (0, 0.5)",
-            ));
-        }
-        self.support_tolerance = tol;
+        self.support_tolerance = check::that(
+            "support_tolerance",
+            tol,
+            tol > 0.0 && tol < 0.5,
+            "must lie in (0, 0.5)",
+        )?;
         Ok(self)
     }
 
@@ -433,10 +429,12 @@ impl Ast {
     /// # Errors
     /// [`Error::InvalidSetting`] otherwise.
     pub fn with_eta(mut self, eta: f64) -> Result<Self> {
-        if !(eta.is_finite() && eta > 0.0) {
-            return Err(Error::invalid("eta", eta, "must be positive and finite"));
-        }
-        self.eta = eta;
+        self.eta = check::that(
+            "eta",
+            eta,
+            eta.is_finite() && eta > 0.0,
+            "must be positive and finite",
+        )?;
         Ok(self)
     }
 

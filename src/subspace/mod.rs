@@ -55,7 +55,7 @@ pub use order::{
 pub use pencil::MatrixPencil;
 
 use crate::amplitudes;
-use crate::error::{Error, Result};
+use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status, Warning};
 use crate::model::{wrap, Measurements};
 use crate::postprocess::PostProcess;
@@ -192,10 +192,7 @@ impl SubspaceSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] below 2.
     pub fn with_order_window(mut self, rows: usize) -> Result<Self> {
-        if rows < 2 {
-            return Err(Error::invalid("order_window", rows, "must be at least 2"));
-        }
-        self.order_window = rows;
+        self.order_window = check::that("order_window", rows, rows >= 2, "must be at least 2")?;
         Ok(self)
     }
 
@@ -210,10 +207,12 @@ impl SubspaceSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] outside that range.
     pub fn with_oversampling(mut self, extra: usize) -> Result<Self> {
-        if !(1..=100).contains(&extra) {
-            return Err(Error::invalid("oversampling", extra, "must lie in 1..=100"));
-        }
-        self.oversampling = extra;
+        self.oversampling = check::that(
+            "oversampling",
+            extra,
+            (1..=100).contains(&extra),
+            "must lie in 1..=100",
+        )?;
         Ok(self)
     }
 
@@ -222,10 +221,7 @@ impl SubspaceSettings {
     /// # Errors
     /// [`Error::InvalidSetting`] above 20.
     pub fn with_power_iterations(mut self, q: usize) -> Result<Self> {
-        if q > 20 {
-            return Err(Error::invalid("power_iterations", q, "must lie in 0..=20"));
-        }
-        self.power_iterations = q;
+        self.power_iterations = check::that("power_iterations", q, q <= 20, "must lie in 0..=20")?;
         Ok(self)
     }
 
