@@ -152,11 +152,16 @@ impl DualPolynomial {
     /// support (peaks within `0.25/N` of a support point count as that point), and `|q|` on the support.
     pub fn certificate(&self, support: &[f64], oversample: usize) -> Certificate {
         let m = self.search_grid_len(oversample);
-        let peaks = self.peaks(m, 0.0);
+        self.certificate_from_peaks(&self.peaks(m, 0.0), support)
+    }
+
+    /// [`DualPolynomial::certificate`] from every local maximum of `|q|` already found
+    /// (`self.peaks(m, 0.0)`), so that a caller who also needs the peaks evaluates the grid once.
+    pub fn certificate_from_peaks(&self, peaks: &[Peak], support: &[f64]) -> Certificate {
         let tol = 0.25 / self.coeffs.len().max(1) as f64;
         let mut max_modulus: f64 = 0.0;
         let mut max_off: f64 = 0.0;
-        for p in &peaks {
+        for p in peaks {
             max_modulus = max_modulus.max(p.modulus);
             if !support.iter().any(|&s| wrap_distance(s, p.position) < tol) {
                 max_off = max_off.max(p.modulus);

@@ -275,10 +275,12 @@ fn finish(
     settings: &SdpSettings,
     start: Instant,
 ) -> Result<Estimate> {
-    let grid = q.search_grid_len(settings.grid_oversample);
-    let candidates: Vec<f64> = q
-        .peaks(grid, 1.0 - settings.support_tolerance)
+    // Every local maximum of |q| once: the support candidates are those at |q| = 1, and the
+    // certificate below needs them all.
+    let peaks = q.peaks(q.search_grid_len(settings.grid_oversample), 0.0);
+    let candidates: Vec<f64> = peaks
         .iter()
+        .filter(|p| p.modulus >= 1.0 - settings.support_tolerance)
         .map(|p| p.position)
         .collect();
     let spikes = settings.postprocess.apply(data, &candidates, sigma)?;
@@ -287,7 +289,7 @@ fn finish(
     // of the convex solution, not a sign of a missed spike.
     let mut support = spikes.positions();
     support.extend_from_slice(&candidates);
-    let cert = q.certificate(&support, settings.grid_oversample);
+    let cert = q.certificate_from_peaks(&peaks, &support);
     let mut diagnostics = Diagnostics::describe(data, &spikes);
     if cert.max_modulus > 1.0 + 1e-6 {
         diagnostics.warnings.push(Warning::CertificateViolated {
