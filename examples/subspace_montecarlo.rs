@@ -9,34 +9,10 @@
 //!
 //! Run: `cargo run --release --example subspace_montecarlo [draws]`
 
-use faer::linalg::solvers::DenseSolveCore;
-use finespike::model::atom;
 use finespike::subspace::{Esprit, MatrixPencil, Music, OrderSelection, SubspaceSettings};
-use finespike::{wrap_distance, AmplitudeKind, Estimator, Scenario, Spikes};
-use num_complex::Complex64;
+use finespike::{crb_for, wrap_distance, AmplitudeKind, Estimator, Scenario};
 use std::f64::consts::PI;
 use std::time::Instant;
-
-/// Position variances from the inverse Fisher matrix `J = (2/σ²) Re(D^H D)` over `(τ_j, Re a_j, Im a_j)`
-/// for the full band `−fc..=fc` (Stoica & Nehorai 1989).
-fn position_crb(truth: &Spikes, fc: i64, sigma: f64) -> Vec<f64> {
-    let s = truth.len();
-    let p = 3 * s;
-    let ks: Vec<i64> = (-fc..=fc).collect();
-    let d = faer::Mat::<Complex64>::from_fn(ks.len(), p, |row, col| {
-        let spike = truth.as_slice()[col % s];
-        let e = atom(ks[row], spike.position);
-        match col / s {
-            0 => spike.amplitude * Complex64::new(0.0, -2.0 * PI * ks[row] as f64) * e,
-            1 => e,
-            _ => Complex64::new(0.0, 1.0) * e,
-        }
-    });
-    let g = d.adjoint() * &d;
-    let fisher = faer::Mat::<f64>::from_fn(p, p, |i, j| 2.0 / (sigma * sigma) * g[(i, j)].re);
-    let inv = fisher.partial_piv_lu().inverse();
-    (0..s).map(|j| inv[(j, j)]).collect()
-}
 
 fn main() -> Result<(), finespike::Error> {
     let draws: u64 = std::env::args()
@@ -74,10 +50,15 @@ fn main() -> Result<(), finespike::Error> {
                     .generate()?;
                 sigma = sample.sigma;
                 let est = m.estimate(&sample.data)?;
-                let bound = position_crb(&sample.truth, fc as i64, sample.sigma);
-                for ((e, t), b) in est.spikes.iter().zip(sample.truth.iter()).zip(bound) {
+                let bound = crb_for(&sample.data, &sample.truth, sample.sigma)?;
+                for ((e, t), b) in est
+                    .spikes
+                    .iter()
+                    .zip(sample.truth.iter())
+                    .zip(&bound.per_spike)
+                {
                     se += wrap_distance(e.position, t.position).powi(2);
-                    crb += b;
+                    crb += b.std_position.powi(2);
                     count += 1.0;
                 }
             }

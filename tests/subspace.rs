@@ -13,7 +13,6 @@
 mod common;
 
 use common::{case_names, load_case, refdata, score};
-use faer::linalg::solvers::DenseSolveCore;
 use finespike::io::parse_spikes_json;
 use finespike::model::forward;
 use finespike::subspace::{
@@ -509,57 +508,6 @@ fn aic_and_order_cap() {
 
 // ---- Monte Carlo against the Cramér–Rao bound -------------------------------------------------
 
-/// Cramér–Rao bound on the positions of `truth` from the full band `−fc..=fc` with complex white
-/// noise `E|n|² = σ²`: the inverse of the Fisher matrix `J = (2/σ²) Re(D^H D)` over the real
-/// parameters `(τ_j, Re a_j, Im a_j)`, `D` the Jacobian of the exact model (Stoica & Nehorai 1989,
-/// IEEE TASSP 37(5)). Returns the variance of each position.
-fn position_crb(truth: &Spikes, fc: i64, sigma: f64) -> Vec<f64> {
-    let s = truth.len();
-    let p = 3 * s;
-    let ks: Vec<i64> = (-fc..=fc).collect();
-    let d = faer::Mat::<Complex64>::from_fn(ks.len(), p, |row, col| {
-        let j = col % s;
-        let spike = truth.as_slice()[j];
-        let k = ks[row] as f64;
-        let e = finespike::model::atom(ks[row], spike.position);
-        match col / s {
-            0 => spike.amplitude * Complex64::new(0.0, -2.0 * PI * k) * e,
-            1 => e,
-            _ => Complex64::new(0.0, 1.0) * e,
-        }
-    });
-    let g = d.adjoint() * &d;
-    let fisher = faer::Mat::<f64>::from_fn(p, p, |i, j| 2.0 / (sigma * sigma) * g[(i, j)].re);
-    let inv = fisher.partial_piv_lu().inverse();
-    (0..s).map(|j| inv[(j, j)]).collect()
-}
-
-#[test]
-fn fisher_matrix_matches_the_single_tone_closed_form_and_the_reference_files() {
-    // Single tone: var(τ̂) ≥ 6σ²/((2π)²|a|²N(N²−1)) (Rife & Boorstyn 1974, IEEE TIT 20(5)).
-    let truth = Spikes::from_parts(&[0.37], &[Complex64::new(0.6, -0.8)]).unwrap();
-    let (fc, sigma) = (16, 0.1);
-    let n = (2 * fc + 1) as f64;
-    let closed = 6.0 * sigma * sigma / ((2.0 * PI).powi(2) * 1.0 * n * (n * n - 1.0));
-    let local = position_crb(&truth, fc, sigma)[0];
-    // Both are exact; the difference is rounding in a 3 × 3 inverse.
-    assert!((local / closed - 1.0).abs() < 1e-12, "{local} vs {closed}");
-    // Multi-tone: the numpy Fisher-matrix bounds in tests/refdata/crb (Stoica & Nehorai 1989).
-    for name in ["nz_fc16_snr20", "nz_fc32_snr30"] {
-        let text = std::fs::read_to_string(refdata().join(format!("crb/{name}.crb.json"))).unwrap();
-        let json: serde_json::Value = serde_json::from_str(&text).unwrap();
-        let truth = parse_spikes_json(&text, name).unwrap().spikes;
-        let fc = json["fc"].as_i64().unwrap();
-        let sigma = json["sigma"].as_f64().unwrap();
-        let ours = position_crb(&truth, fc, sigma);
-        for (v, spike) in ours.iter().zip(json["spikes"].as_array().unwrap()) {
-            let std_ref = spike["std_position"].as_f64().unwrap();
-            // Fisher condition ≈ 5e3 (file): inverses agree to ~1e-12 relative.
-            assert!((v.sqrt() / std_ref - 1.0).abs() < 1e-10, "{name}");
-        }
-    }
-}
-
 /// RMSE of ESPRIT positions over `draws` scenes, divided by the root of the mean CRB.
 fn esprit_rmse_over_crb(fc: usize, snr_db: f64, draws: u64) -> (f64, f64, f64) {
     let mut se = 0.0;
@@ -574,10 +522,15 @@ fn esprit_rmse_over_crb(fc: usize, snr_db: f64, draws: u64) -> (f64, f64, f64) {
             .generate()
             .unwrap();
         let est = Esprit::new(given(3)).estimate(&sample.data).unwrap();
-        let bound = position_crb(&sample.truth, fc as i64, sample.sigma);
-        for ((e, t), b) in est.spikes.iter().zip(sample.truth.iter()).zip(bound) {
+        let bound = finespike::crb_for(&sample.data, &sample.truth, sample.sigma).unwrap();
+        for ((e, t), b) in est
+            .spikes
+            .iter()
+            .zip(sample.truth.iter())
+            .zip(&bound.per_spike)
+        {
             se += wrap_distance(e.position, t.position).powi(2);
-            crb += b;
+            crb += b.std_position.powi(2);
             count += 1.0;
         }
     }
