@@ -161,21 +161,19 @@ fn compare_ast(name: &str, data: &Measurements, sigma: f64) {
 /// Noiseless reference cases at or above 1.26/fc, subsampled and time-domain cases.
 #[test]
 fn exact_reference_cases_agree_with_clarabel() {
-    let names: Vec<String> = case_names("nl_")
-        .into_iter()
-        .filter(|n| !(n.contains("s0p80") || n.contains("s1p00")))
-        .chain(case_names("ss_"))
-        .chain(case_names("td_").into_iter().filter(|n| !n.contains("snr")))
-        .collect();
-    assert_eq!(names.len(), 23);
-    for name in names {
+    for name in common::exact_case_names() {
         let c = load_case(&name);
         compare_exact(&name, &c.data);
         // The truth is recovered (exact recovery theorem regime; reference: cvxpy + SCS ≤ 2e-7/fc).
         let est = Sfw::exact().estimate(&c.data).unwrap();
-        let s = score(&est.spikes, &c.truth.spikes, c.data.fc());
-        assert_eq!((s.found, s.spurious), (c.truth.spikes.len(), 0), "{name}");
-        assert!(s.max_pos_err_fc < 1e-9, "{name}: {s:?}");
+        common::assert_exact_recovery(
+            &name,
+            &est.spikes,
+            &c.truth.spikes,
+            c.data.fc(),
+            1e-9,
+            f64::INFINITY,
+        );
     }
 }
 

@@ -2,7 +2,7 @@
 //! scenes (invented).
 mod common;
 
-use common::{case_names, load_case, score};
+use common::{load_case, score};
 use finespike::greedy::{Greedy, GreedySettings};
 use finespike::{Domain, Estimator, Scenario, Status};
 
@@ -12,25 +12,11 @@ use finespike::{Domain, Estimator, Scenario, Status};
 /// and still fails on any wrong or unpolished support (reference: ESPRIT ≤ 1e-14/fc on these files).
 #[test]
 fn noiseless_reference_cases_to_rounding_level() {
-    let names: Vec<String> = case_names("nl_")
-        .into_iter()
-        .filter(|n| !(n.contains("s0p80") || n.contains("s1p00")))
-        .chain(case_names("ss_"))
-        .chain(case_names("td_").into_iter().filter(|n| !n.contains("snr")))
-        .collect();
-    assert_eq!(names.len(), 23);
-    for name in names {
+    for name in common::exact_case_names() {
         let c = load_case(&name);
         let est = Greedy::exact().estimate(&c.data).unwrap();
         assert_eq!(est.status, Status::Solved, "{name}");
-        let s = score(&est.spikes, &c.truth.spikes, c.data.fc());
-        assert_eq!(
-            (s.found, s.spurious),
-            (c.truth.spikes.len(), 0),
-            "{name}: {s:?}"
-        );
-        assert!(s.max_pos_err_fc <= 1e-8, "{name}: {s:?}");
-        assert!(s.max_rel_amp_err <= 1e-8, "{name}: {s:?}");
+        common::assert_exact_recovery(&name, &est.spikes, &c.truth.spikes, c.data.fc(), 1e-8, 1e-8);
     }
 }
 

@@ -149,3 +149,37 @@ pub fn assert_within_four_crb(name: &str, spikes: &Spikes, truth: &Spikes, fc: f
         );
     }
 }
+
+/// The exact (noiseless) reference cases in the regime of the exact-recovery theorem: `nl_*` at
+/// separation ≥ 1.26/fc (Fernandez-Granda 2016), the subsampled `ss_*` cases and the noiseless
+/// time-domain `td_*` cases (23 in all).
+pub fn exact_case_names() -> Vec<String> {
+    let names: Vec<String> = case_names("nl_")
+        .into_iter()
+        .filter(|n| !(n.contains("s0p80") || n.contains("s1p00")))
+        .chain(case_names("ss_"))
+        .chain(case_names("td_").into_iter().filter(|n| !n.contains("snr")))
+        .collect();
+    assert_eq!(
+        names.len(),
+        23,
+        "reference cases missing from tests/refdata"
+    );
+    names
+}
+
+/// Exact recovery of a reference case: every true spike found, none spurious, positions within
+/// `pos_tol_fc` Rayleigh units and amplitudes within `amp_tol` relative.
+pub fn assert_exact_recovery(
+    name: &str,
+    spikes: &Spikes,
+    truth: &Spikes,
+    fc: f64,
+    pos_tol_fc: f64,
+    amp_tol: f64,
+) {
+    let s = score(spikes, truth, fc);
+    assert_eq!((s.found, s.spurious), (truth.len(), 0), "{name}: {s:?}");
+    assert!(s.max_pos_err_fc <= pos_tol_fc, "{name}: {s:?}");
+    assert!(s.max_rel_amp_err <= amp_tol, "{name}: {s:?}");
+}
