@@ -43,7 +43,7 @@
 mod esprit;
 mod hankel;
 mod music;
-mod order;
+pub(crate) mod order;
 mod pencil;
 
 pub use esprit::Esprit;
@@ -458,16 +458,11 @@ pub(crate) fn run(
             (z.into_iter().map(position).collect(), sub.power_iterations)
         }
     };
-    // A numerical-rank order means the data were judged exact: no noise level is estimated then.
-    let judged_exact = prepared.order.method == OrderMethod::NumericalRank;
-    let (sigma, estimated) = match (settings.noise, judged_exact) {
-        (NoiseLevel::Estimate, true) => (None, false),
-        (noise, _) => match crate::noise::resolve_noise(data, noise) {
-            Ok(level) => level,
-            // Too short a record to estimate σ: no noise assessment and no pruning (both optional).
-            Err(Error::Unsupported { .. }) => (None, false),
-            Err(e) => return Err(e),
-        },
+    let (sigma, estimated) = match crate::noise::resolve_noise(data, settings.noise) {
+        Ok(level) => level,
+        // Too short a record to estimate σ: no noise assessment and no pruning (both optional).
+        Err(Error::Unsupported { .. }) => (None, false),
+        Err(e) => return Err(e),
     };
     // An order chosen by a statistical criterion can be over-estimated; a given or numerical-rank
     // order is kept as it is.
