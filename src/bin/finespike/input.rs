@@ -3,7 +3,7 @@
 use crate::{shown, DomainArg};
 use finespike::io::{self, SpikeFile};
 use finespike::{Domain, Error, Measurements};
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 fn parse_error(path: &Path, line: usize, message: String) -> Error {
     Error::Parse {
@@ -16,6 +16,27 @@ fn parse_error(path: &Path, line: usize, message: String) -> Error {
 fn read_text(path: &Path) -> Result<String, Error> {
     std::fs::read_to_string(path)
         .map_err(|e| parse_error(path, 0, format!("cannot read the file: {e}")))
+}
+
+/// The sample file of `recover` and `plot`, with the flags that fix its band.
+#[derive(clap::Args, Debug, Clone)]
+pub struct SampleArgs {
+    /// Sample file (CSV, header `k,re,im` or `n,re,im`).
+    #[arg(long, short)]
+    pub input: PathBuf,
+    /// Cutoff fc of the band -fc..fc (Fourier files; default: the largest |k| in the file).
+    #[arg(long)]
+    pub fc: Option<usize>,
+    /// Expected kind of file; the header must agree (default: taken from the header).
+    #[arg(long, value_enum)]
+    pub domain: Option<DomainArg>,
+}
+
+impl SampleArgs {
+    /// Read the file into measurements.
+    pub fn load(&self) -> Result<Measurements, Error> {
+        load_samples(&self.input, self.fc, self.domain)
+    }
 }
 
 /// Read a sample file into measurements.

@@ -1,7 +1,7 @@
 //! `plot`: an SVG of the data, the dual polynomial and the spikes.
 
 use crate::recover::report_warnings;
-use crate::{configure, file_name, input, shown, write_output, DomainArg, Failure, MethodArgs};
+use crate::{configure, file_name, input, shown, write_output, Failure, MethodArgs};
 use clap::Args;
 use finespike::io::SpikeFile;
 use finespike::{metrics, Domain, DualPolynomial, Estimate, Measurements, Spikes};
@@ -21,20 +21,13 @@ use std::path::PathBuf;
 #[derive(Args, Debug)]
 #[command(after_help = crate::EXIT_CODES)]
 pub struct PlotArgs {
-    /// Sample file (CSV, header `k,re,im` or `n,re,im`).
-    #[arg(long, short)]
-    input: PathBuf,
+    #[command(flatten)]
+    samples: input::SampleArgs,
     /// Truth file (JSON spikes), drawn as stems of their own colour and scored in the caption.
     #[arg(long)]
     truth: Option<PathBuf>,
     #[command(flatten)]
     method: MethodArgs,
-    /// Cutoff fc of the band -fc..fc (Fourier files; default: the largest |k| in the file).
-    #[arg(long)]
-    fc: Option<usize>,
-    /// Expected kind of file; the header must agree (default: taken from the header).
-    #[arg(long, value_enum)]
-    domain: Option<DomainArg>,
     /// Show only the positions FROM..TO of [0, 1) (e.g. `--range 0.2,0.45`).
     #[arg(long, value_delimiter = ',', value_name = "FROM,TO")]
     range: Option<Vec<f64>>,
@@ -134,7 +127,7 @@ fn draw_err<E: std::fmt::Display>(e: E) -> Failure {
 }
 
 pub fn run(a: PlotArgs) -> Result<(), Failure> {
-    let data = input::load_samples(&a.input, a.fc, a.domain).map_err(Failure::Input)?;
+    let data = a.samples.load().map_err(Failure::Input)?;
     let truth: Option<SpikeFile> = match &a.truth {
         Some(t) => Some(input::load_spikes(t).map_err(Failure::Input)?),
         None => None,
@@ -193,7 +186,7 @@ fn caption(
     raw.push((
         format!(
             "{}: {kind}. Method {}: {}, {} recovered, {}.",
-            file_name(&a.input),
+            file_name(&a.samples.input),
             est.method,
             est.status,
             spikes(est.spikes.len()),
@@ -349,7 +342,7 @@ fn render(
         let mut chart = ChartBuilder::on(&top)
             .margin(12)
             .caption(
-                format!("{} — {} estimate", file_name(&a.input), est.method),
+                format!("{} — {} estimate", file_name(&a.samples.input), est.method),
                 ("sans-serif", 22).into_font().color(&INK),
             )
             .x_label_area_size(50)

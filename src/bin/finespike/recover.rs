@@ -1,11 +1,10 @@
 //! `recover`: one estimator on one sample file; the result on stdout, a readable summary on stderr.
 
-use crate::{configure, input, noise_level, DomainArg, Failure, Format, MethodArgs};
+use crate::{configure, input, noise_level, Failure, Format, MethodArgs};
 use clap::Args;
 use finespike::io;
 use finespike::sweep::takes_noise_level;
 use finespike::{Estimate, NoiseLevel};
-use std::path::PathBuf;
 
 /// Recover spikes from a sample file with one method.
 ///
@@ -17,17 +16,10 @@ use std::path::PathBuf;
 #[derive(Args, Debug)]
 #[command(after_help = crate::EXIT_CODES)]
 pub struct RecoverArgs {
-    /// Sample file (CSV, header `k,re,im` or `n,re,im`).
-    #[arg(long, short)]
-    input: PathBuf,
+    #[command(flatten)]
+    samples: input::SampleArgs,
     #[command(flatten)]
     method: MethodArgs,
-    /// Cutoff fc of the band -fc..fc (Fourier files; default: the largest |k| in the file).
-    #[arg(long)]
-    fc: Option<usize>,
-    /// Expected kind of file; the header must agree (default: taken from the header).
-    #[arg(long, value_enum)]
-    domain: Option<DomainArg>,
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t = Format::Json)]
     format: Format,
@@ -37,7 +29,7 @@ pub struct RecoverArgs {
 }
 
 pub fn run(a: RecoverArgs) -> Result<(), Failure> {
-    let data = input::load_samples(&a.input, a.fc, a.domain).map_err(Failure::Input)?;
+    let data = a.samples.load().map_err(Failure::Input)?;
     let estimator = configure(&a.method)?;
     let estimate = estimator.estimate(&data).map_err(Failure::Estimate)?;
     if !a.quiet {
