@@ -12,7 +12,7 @@ use num_complex::Complex64;
 /// Least-squares amplitudes of spikes at `positions` for the measurements `data`.
 ///
 /// # Errors
-/// [`Error::Unsupported`] when there are more positions than measured coefficients (the system is
+/// [`Error::Underdetermined`] when there are more positions than measured coefficients (the system is
 /// underdetermined and the amplitudes are not identifiable).
 pub fn least_squares(data: &Measurements, positions: &[f64]) -> Result<Vec<Complex64>> {
     let m = data.len();
@@ -21,11 +21,11 @@ pub fn least_squares(data: &Measurements, positions: &[f64]) -> Result<Vec<Compl
         return Ok(Vec::new());
     }
     if s > m {
-        return Err(Error::Unsupported {
-            method: "least-squares amplitudes".into(),
-            reason: format!(
-                "{s} spikes but only {m} measured coefficients: amplitudes are not identifiable"
-            ),
+        return Err(Error::Underdetermined {
+            what: "least-squares amplitudes",
+            unknowns: 2 * s,
+            equations: 2 * m,
+            advice: "fewer spikes than measured coefficients are needed to identify the amplitudes",
         });
     }
     let k = data.indices();
@@ -98,7 +98,7 @@ mod tests {
         let data = Measurements::fourier(1, &[0, 1], &[Complex64::new(1.0, 0.0); 2]).unwrap();
         assert!(matches!(
             least_squares(&data, &[0.1, 0.2, 0.3]),
-            Err(Error::Unsupported { .. })
+            Err(Error::Underdetermined { .. })
         ));
     }
 }

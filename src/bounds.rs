@@ -117,7 +117,7 @@ impl Crb {
 /// - [`Error::InvalidSetting`] for `σ` not finite and positive, or a spike of zero amplitude;
 /// - [`Error::Empty`] for no spikes or no indices; [`Error::DuplicateIndex`], [`Error::IndexOutOfBand`],
 ///   [`Error::ZeroCutoff`] for a bad index set or band;
-/// - [`Error::Unsupported`] when `3s > 2|K|` (more real parameters than real data);
+/// - [`Error::Underdetermined`] when `3s > 2|K|` (more real parameters than real data);
 /// - [`Error::Numerical`] when the Fisher matrix is singular to working precision (coincident spikes),
 ///   i.e. its scaled condition number exceeds [`MAX_SCALED_FISHER_CONDITION`].
 ///
@@ -246,14 +246,11 @@ fn crb_checked(indices: &[i64], fc: f64, spikes: &Spikes, sigma: f64) -> Result<
     let s = spikes.len();
     let p = 3 * s;
     if p > 2 * indices.len() {
-        return Err(Error::Unsupported {
-            method: "crb".into(),
-            reason: format!(
-                "{s} spikes have {p} real parameters but {} measured coefficients give only {} real \
-                 values: the Fisher matrix is singular; measure more coefficients",
-                indices.len(),
-                2 * indices.len()
-            ),
+        return Err(Error::Underdetermined {
+            what: "Cramér–Rao bound (the Fisher matrix is singular)",
+            unknowns: p,
+            equations: 2 * indices.len(),
+            advice: "measure more coefficients or bound fewer spikes",
         });
     }
     // The bound is homogeneous: amplitudes and σ scaled by c scale the amplitude bounds by c and leave
@@ -524,7 +521,7 @@ mod tests {
         ));
         assert!(matches!(
             crb(&[0, 0], -4..=4, &spikes, 0.1),
-            Err(Error::DuplicateIndex { k: 0 })
+            Err(Error::DuplicateIndex { index: 0, .. })
         ));
         assert!(matches!(
             crb(&[5], -4..=4, &spikes, 0.1),
@@ -543,7 +540,7 @@ mod tests {
         let many = Spikes::from_parts(&[0.0, 0.1, 0.2, 0.3, 0.4, 0.5, 0.6], &[one(); 7]).unwrap();
         assert!(matches!(
             crb(&k, -4..=4, &many, 0.1),
-            Err(Error::Unsupported { .. })
+            Err(Error::Underdetermined { .. })
         ));
         for (n, a, s) in [
             (1usize, 1.0, 0.1),

@@ -25,21 +25,25 @@ pub enum Error {
         /// The offending value, printed.
         value: String,
     },
-    /// The same frequency index was given twice.
-    #[error("frequency index k = {k} appears more than once: each measured coefficient must be given once")]
+    /// The same index was given twice.
+    #[error("{what} {index} appears more than once: each must be given once")]
     DuplicateIndex {
-        /// The repeated index.
-        k: i64,
+        /// What the index counts, in the user's terms: `"frequency index k ="` or `"sample index n ="`.
+        what: &'static str,
+        /// The repeated index, as the user numbered it.
+        index: i64,
     },
-    /// A frequency index lies outside the declared band.
-    #[error("frequency index k = {k} lies outside the band {kmin}..={kmax}: raise the cutoff or drop the sample")]
+    /// An index lies outside the declared band or record.
+    #[error("{what} {index} lies outside {range}: {advice}")]
     IndexOutOfBand {
-        /// The offending index.
-        k: i64,
-        /// Lowest index of the band.
-        kmin: i64,
-        /// Highest index of the band.
-        kmax: i64,
+        /// What the index counts, in the user's terms: `"frequency index k ="` or `"sample index n ="`.
+        what: &'static str,
+        /// The offending index, as the user numbered it.
+        index: i64,
+        /// The admissible range, in words (e.g. `"the band -8..=8"`).
+        range: String,
+        /// What to do about it.
+        advice: &'static str,
     },
     /// The cutoff frequency was zero (no resolution at all).
     #[error("the cutoff frequency fc is 0: at least fc = 1 (three coefficients) is needed")]
@@ -72,13 +76,84 @@ pub enum Error {
         /// The rule it broke.
         rule: &'static str,
     },
-    /// The method cannot handle this kind of data.
-    #[error("method '{method}' cannot handle this data: {reason}")]
-    Unsupported {
+    /// The method needs a contiguous run of samples and the measured set has gaps.
+    #[error(
+        "{method} needs a contiguous run of samples, but the measured set has gaps ({measured} of \
+         the {span} indices {first}..={last} are measured); {advice}"
+    )]
+    NeedsContiguous {
+        /// The method or step.
+        method: &'static str,
+        /// How many indices are measured.
+        measured: usize,
+        /// How many indices the span from the first to the last holds.
+        span: usize,
+        /// First measured index, as the user numbered it.
+        first: i64,
+        /// Last measured index, as the user numbered it.
+        last: i64,
+        /// What to use instead.
+        advice: &'static str,
+    },
+    /// The longest contiguous run of samples is shorter than the method needs.
+    #[error(
+        "{method} needs at least {needed} contiguous samples, but the longest run has {found}; \
+         {advice}"
+    )]
+    RunTooShort {
+        /// The method or step.
+        method: &'static str,
+        /// Samples in the longest contiguous run.
+        found: usize,
+        /// Samples needed.
+        needed: usize,
+        /// What to do instead.
+        advice: &'static str,
+    },
+    /// More unknowns than the data can determine.
+    #[error("{what}: {unknowns} real unknowns but only {equations} real data values; {advice}")]
+    Underdetermined {
+        /// The quantity being fitted.
+        what: &'static str,
+        /// Real unknowns.
+        unknowns: usize,
+        /// Real data values.
+        equations: usize,
+        /// What to do about it.
+        advice: &'static str,
+    },
+    /// The problem is past what the method can handle within its documented limits; refused before
+    /// any large allocation.
+    #[error("{method}: {what} needs {needed}, above the limit of {limit}; {advice}")]
+    TooLarge {
+        /// The method or step.
+        method: &'static str,
+        /// What would be too large (e.g. `"the FFT grid"`).
+        what: String,
+        /// What it would need, in words with units.
+        needed: String,
+        /// The limit, in words with units.
+        limit: String,
+        /// What to use instead (names the methods that can handle the record).
+        advice: String,
+    },
+    /// An option was asked of a method that does not take it.
+    #[error("method '{method}' takes no {option}; the methods that take one are {takers}")]
+    OptionNotTaken {
         /// The method's name.
         method: String,
-        /// Why, and what to use instead.
-        reason: String,
+        /// The option, in words (e.g. `"model order"`).
+        option: &'static str,
+        /// The methods that take it, comma-separated.
+        takers: String,
+    },
+    /// The method needs a positive noise level and none was given or could be found.
+    #[error("method '{method}' needs a positive noise level: {advice}")]
+    NeedsNoiseLevel {
+        /// The method's name.
+        method: &'static str,
+        /// What to do instead.
+        advice: &'static str,
     },
     /// A linear-algebra step failed (singular system, failed decomposition).
     #[error("numerical failure in {step}: {detail}")]

@@ -529,7 +529,7 @@ impl GridSolution {
 ///
 /// # Errors
 /// [`Error::InvalidSetting`] for a `λ` that is not positive and finite, or invalid settings
-/// ([`GridSettings::validated`]); [`Error::Unsupported`] for a grid above 2^26 points.
+/// ([`GridSettings::validated`]); [`Error::TooLarge`] for a grid above 2^26 points.
 pub fn solve(data: &Measurements, lambda: f64, settings: &GridSettings) -> Result<GridSolution> {
     if !(lambda.is_finite() && lambda > 0.0) {
         return Err(Error::invalid(
@@ -549,13 +549,17 @@ fn operator(data: &Measurements, oversample: usize) -> Result<GridOperator> {
         .band_len()
         .checked_mul(oversample)
         .filter(|&g| g <= MAX_GRID)
-        .ok_or_else(|| Error::Unsupported {
-            method: "grid".into(),
-            reason: format!(
-                "a band of {} coefficients at {oversample} points per coefficient needs a grid \
-                 above 2^26 points; split the record or lower the oversampling",
+        .ok_or_else(|| Error::TooLarge {
+            method: "grid",
+            what: format!(
+                "a band of {} coefficients at {oversample} grid points per coefficient",
                 data.band_len()
             ),
+            needed: "a grid above 2^26 points".into(),
+            limit: "2^26 points".into(),
+            advice:
+                "lower the oversampling, split the record, or use 'esprit', which needs no grid"
+                    .into(),
         })?;
     GridOperator::new(data, grid_len)
 }
@@ -716,7 +720,7 @@ impl GridL1 {
     ///
     /// # Errors
     /// [`Error::InvalidSetting`] for invalid settings ([`GridSettings::validated`]);
-    /// [`Error::Unsupported`] for a grid above 2^26 points.
+    /// [`Error::TooLarge`] for a grid above 2^26 points.
     pub fn lambda(&self, data: &Measurements, sigma: Option<f64>) -> Result<f64> {
         self.settings.validated()?;
         let op = operator(data, self.settings.oversample)?;

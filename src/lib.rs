@@ -40,6 +40,7 @@ pub mod estimator;
 pub mod greedy;
 pub mod grid;
 pub mod io;
+mod kernels;
 pub mod metrics;
 pub mod model;
 pub mod noise;
@@ -58,7 +59,10 @@ pub use bounds::{crb, crb_for, single_tone_position_variance, Crb, SpikeBound};
 pub use continuous::{Sfw, SfwSettings};
 pub use dual::{Certificate, DualPolynomial};
 pub use error::{Error, Result};
-pub use estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
+pub use estimator::{
+    Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning, CLASSICAL_SEPARATION_FC,
+    PROVEN_SEPARATION_FC,
+};
 pub use greedy::{Greedy, GreedySettings};
 pub use grid::{GridL1, GridSettings};
 pub use metrics::{MatchSettings, Score};

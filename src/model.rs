@@ -209,6 +209,26 @@ pub enum Domain {
     Time,
 }
 
+impl Domain {
+    /// What an index counts, in the user's terms, ready to be followed by its value:
+    /// `"frequency index k ="` or `"sample index n ="`.
+    pub fn index_words(self) -> &'static str {
+        match self {
+            Domain::Fourier => "frequency index k =",
+            Domain::Time => "sample index n =",
+        }
+    }
+
+    /// An internal index `k` as the user numbered it: `k` itself for Fourier data, the sample index
+    /// `n = −k` for time samples (stored with `k = −n`).
+    pub fn user_index(self, k: i64) -> i64 {
+        match self {
+            Domain::Fourier => k,
+            Domain::Time => -k,
+        }
+    }
+}
+
 /// Validated band-limited measurements: values `y_k` at distinct indices `k` inside a contiguous band.
 ///
 /// Validation happens once, here; every estimator may rely on it.
@@ -344,12 +364,30 @@ impl Measurements {
         pairs.sort_by_key(|p| p.0);
         for w in pairs.windows(2) {
             if w[0].0 == w[1].0 {
-                return Err(Error::DuplicateIndex { k: w[0].0 });
+                return Err(Error::DuplicateIndex {
+                    what: domain.index_words(),
+                    index: domain.user_index(w[0].0),
+                });
             }
         }
         for &(k, _) in &pairs {
             if k < kmin || k > kmax {
-                return Err(Error::IndexOutOfBand { k, kmin, kmax });
+                let (range, advice) = match domain {
+                    Domain::Fourier => (
+                        format!("the band {kmin}..={kmax}"),
+                        "raise the cutoff or drop the sample",
+                    ),
+                    Domain::Time => (
+                        format!("the record 0..={}", -kmin),
+                        "sample indices must be non-negative",
+                    ),
+                };
+                return Err(Error::IndexOutOfBand {
+                    what: domain.index_words(),
+                    index: domain.user_index(k),
+                    range,
+                    advice,
+                });
             }
         }
         Ok(Measurements {
@@ -430,6 +468,24 @@ impl Measurements {
     pub fn is_contiguous(&self) -> bool {
         let n = self.indices.len();
         self.indices[n - 1] - self.indices[0] + 1 == n as i64
+    }
+
+    /// [`Error::NeedsContiguous`] for `method` on these data, with the measured span in the user's
+    /// numbering (sample indices for time records) and `advice` naming what to use instead.
+    pub fn gaps_error(&self, method: &'static str, advice: &'static str) -> Error {
+        let n = self.indices.len();
+        let (a, b) = (
+            self.domain.user_index(self.indices[0]),
+            self.domain.user_index(self.indices[n - 1]),
+        );
+        Error::NeedsContiguous {
+            method,
+            measured: n,
+            span: (self.indices[n - 1] - self.indices[0] + 1) as usize,
+            first: a.min(b),
+            last: a.max(b),
+            advice,
+        }
     }
 
     /// Euclidean norm of the data, `‖y‖₂`.
@@ -573,14 +629,18 @@ mod tests {
         );
         assert_eq!(
             Measurements::fourier(2, &[0, 1, 1], &v),
-            Err(Error::DuplicateIndex { k: 1 })
+            Err(Error::DuplicateIndex {
+                what: "frequency index k =",
+                index: 1
+            })
         );
         assert_eq!(
             Measurements::fourier(2, &[0, 1, 3], &v),
             Err(Error::IndexOutOfBand {
-                k: 3,
-                kmin: -2,
-                kmax: 2
+                what: "frequency index k =",
+                index: 3,
+                range: "the band -2..=2".into(),
+                advice: "raise the cutoff or drop the sample",
             })
         );
         assert!(matches!(

@@ -132,7 +132,7 @@ pub struct SigmaEstimate {
 /// threshold (2014).
 ///
 /// # Errors
-/// [`Error::Unsupported`] when the longest contiguous run is shorter than [`MIN_RUN`];
+/// [`Error::RunTooShort`] when the longest contiguous run is shorter than [`MIN_RUN`];
 /// [`Error::Numerical`] if the singular value decomposition fails.
 ///
 /// # Examples
@@ -150,13 +150,11 @@ pub struct SigmaEstimate {
 pub fn estimate_sigma(data: &Measurements) -> Result<SigmaEstimate> {
     let (start, run) = longest_run(data.indices());
     if run < MIN_RUN {
-        return Err(Error::Unsupported {
-            method: "noise estimate".into(),
-            reason: format!(
-                "the longest contiguous run of measured coefficients has {run} samples, fewer than \
-                 {MIN_RUN}: the subspace estimate needs a contiguous stretch; fit a model and use \
-                 noise::residual_sigma instead"
-            ),
+        return Err(Error::RunTooShort {
+            method: "the noise-level estimate",
+            found: run,
+            needed: MIN_RUN,
+            advice: "fit a model and use noise::residual_sigma instead",
         });
     }
     let y = &data.values()[start..start + run];
@@ -310,7 +308,7 @@ pub fn residual_sigma(data: &Measurements, spikes: &Spikes) -> Option<f64> {
 /// subspace at that level).
 ///
 /// # Errors
-/// [`Error::InvalidSetting`] for an invalid known level; [`Error::Unsupported`] when σ must be estimated
+/// [`Error::InvalidSetting`] for an invalid known level; [`Error::RunTooShort`] when σ must be estimated
 /// but the data have no contiguous run long enough (the message says to give σ).
 pub(crate) fn resolve_noise(
     data: &Measurements,
@@ -322,11 +320,11 @@ pub(crate) fn resolve_noise(
         NoiseLevel::Known(s) => Ok(((s > 0.0).then_some(s), false)),
         NoiseLevel::Estimate => {
             let est = estimate_sigma(data).map_err(|e| match e {
-                Error::Unsupported { reason, .. } => Error::Unsupported {
-                    method: "noise-level estimate".into(),
-                    reason: format!(
-                        "{reason}. Give the noise level explicitly (sigma; 0 for exact data)"
-                    ),
+                Error::RunTooShort { found, needed, .. } => Error::RunTooShort {
+                    method: "the noise-level estimate",
+                    found,
+                    needed,
+                    advice: "give the noise level explicitly (sigma; 0 for exact data)",
                 },
                 other => other,
             })?;
@@ -496,7 +494,7 @@ mod tests {
         .unwrap();
         assert!(matches!(
             estimate_sigma(&sparse),
-            Err(Error::Unsupported { .. })
+            Err(Error::RunTooShort { .. })
         ));
     }
 

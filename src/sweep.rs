@@ -90,7 +90,7 @@ pub struct Configured {
 ///
 /// # Errors
 /// - [`Error::UnknownMethod`] for a name not in [`METHODS`];
-/// - [`Error::Unsupported`] for a model order asked of a method without one (the message lists the
+/// - [`Error::OptionNotTaken`] for a model order asked of a method without one (the message lists the
 ///   methods that take one);
 /// - [`Error::InvalidSetting`] for an order of 0 or a noise level that is negative or not finite.
 pub fn configure(name: &str, options: &MethodOptions) -> Result<Configured> {
@@ -102,12 +102,10 @@ pub fn configure(name: &str, options: &MethodOptions) -> Result<Configured> {
         });
     };
     if options.order.is_some() && !takes_order(name) {
-        return Err(Error::Unsupported {
+        return Err(Error::OptionNotTaken {
             method: name.to_string(),
-            reason: format!(
-                "it takes no model order; the methods that take one are {}",
-                methods_with_order().join(", ")
-            ),
+            option: "model order",
+            takers: methods_with_order().join(", "),
         });
     }
     let subspace = |order: Option<usize>| -> Result<SubspaceSettings> {

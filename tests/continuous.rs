@@ -411,7 +411,7 @@ fn invalid_settings_and_problems_are_errors() {
     .unwrap();
     assert!(matches!(
         Sfw::exact().estimate(&wide),
-        Err(finespike::Error::Unsupported { .. })
+        Err(finespike::Error::TooLarge { .. })
     ));
     assert_eq!(Sfw::exact().name(), "sfw");
 }

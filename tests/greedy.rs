@@ -133,7 +133,7 @@ fn invalid_settings_are_errors() {
     .unwrap();
     assert!(matches!(
         Greedy::exact().estimate(&wide),
-        Err(finespike::Error::Unsupported { .. })
+        Err(finespike::Error::TooLarge { .. })
     ));
     assert_eq!(Greedy::exact().name(), "greedy");
 }

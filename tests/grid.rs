@@ -272,7 +272,7 @@ fn invalid_settings_are_errors() {
     .unwrap();
     assert!(matches!(
         GridL1::exact().estimate(&wide),
-        Err(finespike::Error::Unsupported { .. })
+        Err(finespike::Error::TooLarge { .. })
     ));
 }
 

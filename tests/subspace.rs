@@ -275,17 +275,16 @@ fn gaps_in_the_measured_set_are_unsupported() {
         for (m, _) in estimators(SubspaceSettings::default()) {
             let err = m.estimate(&case.data).unwrap_err();
             match &err {
-                Error::Unsupported { method, reason } => {
-                    assert_eq!(method, m.name());
-                    assert!(reason.contains("contiguous"), "{reason}");
-                    assert!(reason.contains("'sdp'"), "{reason}");
+                Error::NeedsContiguous { method, advice, .. } => {
+                    assert_eq!(*method, m.name());
+                    assert!(advice.contains("'sdp'"), "{advice}");
                 }
-                other => panic!("expected Unsupported, got {other:?}"),
+                other => panic!("expected NeedsContiguous, got {other:?}"),
             }
             assert!(err.to_string().contains("accepts gaps"));
         }
         let p = pseudospectrum(&case.data, &SubspaceSettings::default(), 512);
-        assert!(matches!(p, Err(Error::Unsupported { .. })));
+        assert!(matches!(p, Err(Error::NeedsContiguous { .. })));
     }
 }
 
@@ -316,7 +315,7 @@ fn orders_and_windows_beyond_identifiability_are_typed_errors() {
     let one = Measurements::fourier(3, &[1], &[Complex64::new(1.0, 0.0)]).unwrap();
     assert!(matches!(
         Esprit::default().estimate(&one),
-        Err(Error::Unsupported { .. })
+        Err(Error::RunTooShort { .. })
     ));
 }
 
@@ -439,7 +438,8 @@ fn arbitrary_data_and_settings_never_panic() {
                 Err(
                     Error::InvalidSetting { .. }
                     | Error::Numerical { .. }
-                    | Error::Unsupported { .. },
+                    | Error::RunTooShort { .. }
+                    | Error::Underdetermined { .. },
                 ) => {}
                 Err(other) => panic!("unexpected error {other:?}"),
             }

@@ -77,7 +77,7 @@ impl Model {
     /// (`oversample` at least 8: the screening bound of [`super::certificate`] needs it).
     ///
     /// # Errors
-    /// [`Error::Unsupported`] when the grid would exceed [`MAX_GRID`] points (a band so long that its
+    /// [`Error::TooLarge`] when the grid would exceed [`MAX_GRID`] points (a band so long that its
     /// FFT grid would not fit in memory).
     pub fn new(data: &Measurements, oversample: usize) -> Result<Self> {
         let kmin = data.kmin();
@@ -95,13 +95,14 @@ impl Model {
             .band_len()
             .checked_mul(oversample.max(8))
             .filter(|&g| g <= MAX_GRID)
-            .ok_or_else(|| Error::Unsupported {
-                method: "continuous solver".into(),
-                reason: format!(
-                    "a band of {} coefficients needs an FFT grid above {MAX_GRID} points; \
-                     split the record or lower grid_oversample",
-                    data.band_len()
-                ),
+            .ok_or_else(|| Error::TooLarge {
+                method: "continuous solver",
+                what: format!("the FFT grid of a band of {} coefficients", data.band_len()),
+                needed: format!("more than {MAX_GRID} points"),
+                limit: format!("{MAX_GRID} points"),
+                advice: "lower grid_oversample, split the record, or use 'esprit', which needs no \
+                         grid"
+                    .into(),
             })?
             .next_power_of_two();
         let fft = FftPlanner::new().plan_fft_inverse(grid_len);

@@ -269,7 +269,7 @@ impl PartialEq for ModelHandle {
 ///
 /// # Errors
 /// [`Error::InvalidSetting`] for a negative or non-finite `δ`, or a `λ` that is not positive and
-/// finite; [`Error::Unsupported`] for a band whose FFT grid would exceed 2^26 points. Solver trouble is
+/// finite; [`Error::TooLarge`] for a band whose FFT grid would exceed 2^26 points. Solver trouble is
 /// reported in [`Solution::status`].
 pub fn solve(data: &Measurements, problem: Problem, settings: &SfwSettings) -> Result<Solution> {
     let problem = problem.validated()?;

@@ -462,11 +462,10 @@ impl Estimator for Ast {
         let start = Instant::now();
         let (sigma, estimated) = resolve_sigma(data, self.noise)?;
         let Some(s) = sigma else {
-            return Err(Error::Unsupported {
-                method: "ast".into(),
-                reason: "soft thresholding needs a positive noise level: give sigma, or use \
-                         'sdp' for exact data"
-                    .into(),
+            return Err(Error::NeedsNoiseLevel {
+                method: "ast",
+                advice: "soft thresholding has no exact-data form; give sigma, or use 'sdp' for \
+                         exact data",
             });
         };
         let problem = Problem::Penalised {

@@ -12,10 +12,10 @@
 //!   Ψ_TLS = −V_12 V_22^{−1},    τ_j = −arg(z_j) / (2π)  (wrapped to [0, 1)),   z_j = eig(Ψ_TLS).
 //! ```
 
-use super::hankel::numerical;
 use super::{run, Baseline, SubspaceSettings};
 use crate::error::Result;
 use crate::estimator::{Estimate, Estimator};
+use crate::kernels::hankel::numerical;
 use crate::model::Measurements;
 use faer::linalg::solvers::Solve;
 use faer::{c64, Mat, MatRef};
@@ -59,7 +59,7 @@ impl Estimator for Esprit {
     }
 
     /// # Errors
-    /// [`crate::Error::Unsupported`] for a measured set with gaps or fewer than two coefficients;
+    /// [`crate::Error::NeedsContiguous`] for a measured set with gaps, [`crate::Error::RunTooShort`] for fewer than two coefficients;
     /// [`crate::Error::InvalidSetting`] for a window or given order the data cannot support;
     /// [`crate::Error::Numerical`] if a decomposition fails.
     fn estimate(&self, data: &Measurements) -> Result<Estimate> {

@@ -41,13 +41,12 @@
 //! (DOIs, and the section and algorithm numbers cited in this module, are recalled from memory.)
 
 mod esprit;
-mod hankel;
 mod music;
 pub(crate) mod order;
 mod pencil;
 
+pub use crate::kernels::hankel::{Decomposition, DENSE_MAX};
 pub use esprit::Esprit;
-pub use hankel::{Decomposition, DENSE_MAX};
 pub use music::{pseudospectrum, Music, Pseudospectrum};
 pub use order::{
     aic, mdl, numerical_rank, ModelOrder, OrderMethod, OrderSelection, DEFAULT_RANK_TOLERANCE,
@@ -57,11 +56,11 @@ pub use pencil::MatrixPencil;
 use crate::amplitudes;
 use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status, Warning};
+use crate::kernels::hankel::{self, HankelOperator, RandomizedParams, Subspace};
 use crate::model::{wrap, Measurements};
 use crate::postprocess::PostProcess;
 use crate::refine::{refine, RefineSettings};
 use faer::c64;
-use hankel::{HankelOperator, RandomizedParams, Subspace};
 use std::f64::consts::PI;
 use std::time::Instant;
 
@@ -288,25 +287,19 @@ pub(crate) fn prepare(
 ) -> Result<Prepared> {
     let start = Instant::now();
     if !data.is_contiguous() {
-        return Err(Error::Unsupported {
-            method: method.name().into(),
-            reason: format!(
-                "the measured set K has gaps ({} of the indices {}..={} are measured); the subspace \
-                 methods music, esprit and pencil need a contiguous band of coefficients. Use 'sdp', \
-                 which accepts gaps",
-                data.len(),
-                data.indices()[0],
-                data.indices()[data.len() - 1]
-            ),
-        });
+        return Err(data.gaps_error(
+            method.name(),
+            "the subspace methods music, esprit and pencil need one; use 'sdp', 'sfw', 'grid' or \
+             'greedy', which accept gaps",
+        ));
     }
     let n = data.len();
     if n < 2 {
-        return Err(Error::Unsupported {
-            method: method.name().into(),
-            reason: "a single coefficient holds no position information: at least 2 contiguous \
-                     coefficients are needed"
-                .into(),
+        return Err(Error::RunTooShort {
+            method: method.name(),
+            found: n,
+            needed: 2,
+            advice: "a single sample holds no position information",
         });
     }
     let order_selection = settings.order.validated()?;
@@ -461,7 +454,7 @@ pub(crate) fn run(
     let (sigma, estimated) = match crate::noise::resolve_noise(data, settings.noise) {
         Ok(level) => level,
         // Too short a record to estimate σ: no noise assessment and no pruning (both optional).
-        Err(Error::Unsupported { .. }) => (None, false),
+        Err(Error::RunTooShort { .. }) => (None, false),
         Err(e) => return Err(e),
     };
     // An order chosen by a statistical criterion can be over-estimated; a given or numerical-rank

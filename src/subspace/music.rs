@@ -26,10 +26,10 @@
 //! (relative), against `ε` times the conditioning for ESPRIT; on well-posed scenes the loss is
 //! usually much smaller.
 
-use super::hankel::numerical;
 use super::{prepare, run, Baseline, ModelOrder, SubspaceSettings};
 use crate::error::{Error, Result};
 use crate::estimator::{Estimate, Estimator};
+use crate::kernels::hankel::numerical;
 use crate::model::Measurements;
 use faer::{c64, Mat, MatRef};
 use rustfft::FftPlanner;

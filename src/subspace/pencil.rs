@@ -15,10 +15,10 @@
 //! differs from [`Esprit`](super::Esprit) only in solving the shift equation by least squares rather
 //! than total least squares.
 
-use super::hankel::numerical;
 use super::{run, Baseline, SubspaceSettings};
 use crate::error::Result;
 use crate::estimator::{Estimate, Estimator};
+use crate::kernels::hankel::numerical;
 use crate::model::Measurements;
 use faer::linalg::solvers::SolveLstsqCore;
 use faer::{c64, Conj, Mat, MatRef};

@@ -100,11 +100,9 @@ fn method_list(asked: &[String]) -> Result<Vec<&'static str>, Failure> {
 /// Exit 4 when no method produced an estimate on any data set (the table, printed first, says why).
 fn every_run_failed(all_failed: bool) -> Result<(), Failure> {
     if all_failed {
-        return Err(Failure::Estimate(Error::Unsupported {
-            method: "compare".into(),
-            reason: "no method produced an estimate on these data (the errors are in the table)"
-                .into(),
-        }));
+        return Err(Failure::NoEstimate(
+            "no method produced an estimate on these data (the errors are in the table)".into(),
+        ));
     }
     Ok(())
 }

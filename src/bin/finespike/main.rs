@@ -169,6 +169,8 @@ enum Failure {
     Input(Error),
     /// Exit 4.
     Estimate(Error),
+    /// Exit 4: no method produced an estimate (`compare`).
+    NoEstimate(String),
     /// Exit 5.
     Output(String),
 }
@@ -193,6 +195,10 @@ fn main() -> ExitCode {
             ExitCode::from(3)
         }
         Err(Failure::Estimate(e)) => {
+            eprintln!("error: {e}");
+            ExitCode::from(4)
+        }
+        Err(Failure::NoEstimate(e)) => {
             eprintln!("error: {e}");
             ExitCode::from(4)
         }
@@ -221,8 +227,9 @@ fn configure(args: &MethodArgs) -> Result<Box<dyn finespike::Estimator>, Failure
         backend: args.solver.backend(),
     };
     let configured = finespike::sweep::configure(&args.method, &options).map_err(|e| match e {
-        Error::Unsupported { method, reason } => Failure::Usage(format!(
-            "--order is not available for method '{method}': {reason}"
+        Error::OptionNotTaken { method, takers, .. } => Failure::Usage(format!(
+            "--order is not available for method '{method}': it takes no model order; the methods \
+             that take one are {takers}"
         )),
         other => Failure::Usage(other.to_string()),
     })?;
