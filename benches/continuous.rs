@@ -3,7 +3,7 @@
 //! (`sfw_exact`) and 30 dB with constrained TV (`sfw_constrained`). The greedy fit and `grid` are timed
 //! by record length in `benches/long_records.rs`.
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
-use finespike::continuous::Sfw;
+use finespike::Sfw;
 use finespike::{Estimator, Scenario};
 use std::time::Duration;
 

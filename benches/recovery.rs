@@ -4,7 +4,7 @@
 //! solver (`sliding`, up to fc = 512; the default `Backend::Auto` uses it from fc = 25). Scenes are
 //! invented: fc/4 spikes (at least 1) at separation 2/fc, exact data, seeded.
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
-use finespike::{Backend, Estimator, Scenario, SdpSettings, Tv};
+use finespike::{Backend, Estimator, Scenario, Tv, TvSettings};
 use std::time::Duration;
 
 fn exact_sdp(c: &mut Criterion) {
@@ -23,7 +23,7 @@ fn exact_sdp(c: &mut Criterion) {
             &[4usize, 8, 16, 24, 32, 128, 512][..],
         ),
     ] {
-        let estimator = Tv::exact().with_settings(SdpSettings::default().with_backend(backend));
+        let estimator = Tv::exact().with_settings(TvSettings::default().with_backend(backend));
         for &fc in fcs {
             let sample = Scenario::new(fc, (fc / 4).max(1))
                 .with_separation(2.0)

@@ -10,9 +10,9 @@
 //! ```
 //!
 //! Run under `/usr/bin/time -v` for the peak memory (maximum resident set size).
-use finespike::continuous::Sfw;
-use finespike::greedy::Greedy;
-use finespike::{Backend, Estimator, Scenario, SdpSettings, Tv};
+use finespike::Greedy;
+use finespike::Sfw;
+use finespike::{Backend, Estimator, Scenario, Tv, TvSettings};
 use std::time::Instant;
 
 /// Peak resident set size of this process, in MB (`VmHWM` of `/proc/self/status`; Linux only).
@@ -86,7 +86,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 .with_separation(2.0)
                 .with_seed(11)
                 .generate()?;
-            let estimator = Tv::exact().with_settings(SdpSettings::default().with_backend(backend));
+            let estimator = Tv::exact().with_settings(TvSettings::default().with_backend(backend));
             let t = Instant::now();
             let e = estimator.estimate(&sample.data)?;
             let seconds = t.elapsed().as_secs_f64();

@@ -16,7 +16,7 @@
 #[path = "../tests/common/montecarlo.rs"]
 mod montecarlo;
 
-use finespike::sweep::{configure, MethodOptions};
+use finespike::registry::{configure, MethodOptions};
 use finespike::{AmplitudeKind, NoiseLevel, Scenario};
 use montecarlo::run;
 

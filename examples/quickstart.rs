@@ -5,7 +5,7 @@
 //! Rayleigh limit — and the others at least 1.3/fc apart. Run with
 //! `cargo run --release --example quickstart`.
 
-use finespike::metrics::score;
+use finespike::eval::metrics::score;
 use finespike::{Estimator, Measurements, Spike, Spikes, Tv};
 use num_complex::Complex64;
 

@@ -50,10 +50,6 @@ use serde::Serialize;
 use std::f64::consts::PI;
 use std::ops::RangeInclusive;
 
-/// The separation thresholds of exact recovery, in Rayleigh units; defined in [`crate::estimator`] and
-/// offered here beside the bounds.
-pub use crate::estimator::{CLASSICAL_SEPARATION_FC, PROVEN_SEPARATION_FC};
-
 /// Largest accepted condition number of the Jacobi-scaled Fisher matrix `D^{−1/2} F D^{−1/2}`
 /// (`D = diag F`). The inverse computed through a Cholesky factorisation carries a relative error of
 /// about `κ·ε` (the standard perturbation bound for Cholesky solves, Higham 2002, *Accuracy and
@@ -119,11 +115,11 @@ impl Crb {
 ///   [`Error::ZeroCutoff`] for a bad index set or band;
 /// - [`Error::Underdetermined`] when `3s > 2|K|` (more real parameters than real data);
 /// - [`Error::Numerical`] when the Fisher matrix is singular to working precision (coincident spikes),
-///   i.e. its scaled condition number exceeds [`MAX_SCALED_FISHER_CONDITION`].
+///   i.e. its scaled condition number exceeds `MAX_SCALED_FISHER_CONDITION` (10¹²).
 ///
 /// # Examples
 /// ```
-/// use finespike::bounds::{crb, single_tone_position_variance};
+/// use finespike::{crb, single_tone_position_variance};
 /// use finespike::Spikes;
 /// use num_complex::Complex64;
 /// // One tone observed through 64 time samples (k = −63..=0).

@@ -6,7 +6,8 @@
 //! its (double) roots, i.e. the maxima of `|q|²` that reach 1. We locate the maxima of `|q|²` on an FFT
 //! grid and polish each one with Newton steps on `d|q|²/dt = 0` against the exact polynomial.
 
-use crate::model::{atom, wrap, wrap_distance};
+use crate::kernels::peaks::{grid_maxima, polish_maximum, Peak};
+use crate::model::{atom, wrap_distance};
 use num_complex::Complex64;
 use rustfft::FftPlanner;
 use serde::{Deserialize, Serialize};
@@ -17,15 +18,6 @@ use std::f64::consts::PI;
 pub struct DualPolynomial {
     kmin: i64,
     coeffs: Vec<Complex64>,
-}
-
-/// A local maximum of `|q|`, polished by Newton steps.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Peak {
-    /// Position of the maximum on `[0, 1)`.
-    pub position: f64,
-    /// `|q|` there.
-    pub modulus: f64,
 }
 
 /// How well a dual polynomial certifies a support.
@@ -101,23 +93,17 @@ impl DualPolynomial {
     }
 
     /// Every local maximum of `|q|` with `|q| ≥ floor`, found on a grid of `m` points and polished.
-    pub fn peaks(&self, m: usize, floor: f64) -> Vec<Peak> {
+    pub(crate) fn peaks(&self, m: usize, floor: f64) -> Vec<Peak> {
         let vals = self.grid_values(m);
         let m = vals.len();
         let mag: Vec<f64> = vals.iter().map(|v| v.norm_sqr()).collect();
         let h = 1.0 / m as f64;
         let mut peaks: Vec<Peak> = Vec::new();
-        for j in 0..m {
-            let left = mag[(j + m - 1) % m];
-            let right = mag[(j + 1) % m];
-            if mag[j] >= left && mag[j] > right && mag[j].sqrt() >= floor * (1.0 - 1e-3) {
-                let t = self.polish_maximum(j as f64 * h, h);
-                let modulus = self.eval(t).norm();
-                if modulus >= floor {
-                    peaks.push(Peak {
-                        position: t,
-                        modulus,
-                    });
+        for j in grid_maxima(&mag) {
+            if mag[j].sqrt() >= floor * (1.0 - 1e-3) {
+                let p = polish_maximum(|t| self.derivatives_at(t), j as f64 * h, h, self.width());
+                if p.modulus >= floor {
+                    peaks.push(p);
                 }
             }
         }
@@ -125,27 +111,22 @@ impl DualPolynomial {
     }
 
     /// Newton steps on `f(t) = |q(t)|²` towards the local maximum near `t0`, never leaving
-    /// `[t0 − h, t0 + h]`; `f' = 2 Re(q̄ q')`, `f'' = 2(|q'|² + Re(q̄ q''))`.
+    /// `[t0 − h, t0 + h]`; `f' = 2 Re(q̄ q')`, `f'' = 2(|q'|² + Re(q̄ q''))`. Returns the point with
+    /// the largest `|q|` visited (the maximum itself once Newton has converged).
     pub fn polish_maximum(&self, t0: f64, h: f64) -> f64 {
-        let mut t = t0;
-        for _ in 0..50 {
-            let (q, d1, d2) = self.eval_derivatives(t);
-            let f1 = 2.0 * (q.conj() * d1).re;
-            let f2 = 2.0 * (d1.norm_sqr() + (q.conj() * d2).re);
-            if f2 >= 0.0 {
-                break; // not locally concave: keep the best point so far
-            }
-            let step = -f1 / f2;
-            let next = t + step;
-            if (next - t0).abs() > h {
-                break;
-            }
-            t = next;
-            if step.abs() < 1e-15 {
-                break;
-            }
-        }
-        wrap(t)
+        polish_maximum(|t| self.derivatives_at(t), t0, h, self.width()).position
+    }
+
+    /// `[q, q', q'']` at `t`, the form the shared polish takes.
+    fn derivatives_at(&self, t: f64) -> [Complex64; 3] {
+        let (q, d1, d2) = self.eval_derivatives(t);
+        [q, d1, d2]
+    }
+
+    /// Largest `|k|` of the coefficients: the scale of the derivatives.
+    fn width(&self) -> f64 {
+        let kmax = self.kmin + self.coeffs.len() as i64 - 1;
+        self.kmin.abs().max(kmax.abs()) as f64
     }
 
     /// Check the certificate for `support`: global maximum of `|q|`, largest maximum away from the
@@ -157,7 +138,7 @@ impl DualPolynomial {
 
     /// [`DualPolynomial::certificate`] from every local maximum of `|q|` already found
     /// (`self.peaks(m, 0.0)`), so that a caller who also needs the peaks evaluates the grid once.
-    pub fn certificate_from_peaks(&self, peaks: &[Peak], support: &[f64]) -> Certificate {
+    pub(crate) fn certificate_from_peaks(&self, peaks: &[Peak], support: &[f64]) -> Certificate {
         let tol = 0.25 / self.coeffs.len().max(1) as f64;
         let mut max_modulus: f64 = 0.0;
         let mut max_off: f64 = 0.0;

@@ -7,16 +7,9 @@
 
 use crate::dual::{Certificate, DualPolynomial};
 use crate::error::Result;
-use crate::model::{Measurements, Spikes};
+use crate::model::{Measurements, Spikes, PROVEN_SEPARATION_FC};
 use serde::{Serialize, Serializer};
 use std::fmt;
-
-/// Proven separation threshold for exact recovery by TV minimisation, in Rayleigh units:
-/// `Δ ≥ 1.26/fc` (Fernandez-Granda 2016, Information and Inference 5(3), Thm. 2.2).
-pub const PROVEN_SEPARATION_FC: f64 = 1.26;
-
-/// The original exact-recovery threshold `Δ ≥ 2/fc` (Candès & Fernandez-Granda 2014, CPAM 67(6), Thm. 1.2).
-pub const CLASSICAL_SEPARATION_FC: f64 = 2.0;
 
 /// A spike-recovery method. Object safe: `Box<dyn Estimator>` works.
 ///
@@ -257,7 +250,7 @@ impl Serialize for Warning {
 #[non_exhaustive]
 pub struct Diagnostics {
     /// The numerical solver behind a convex estimate (`None` for the other methods), e.g. the
-    /// interior point or Sliding Frank–Wolfe for `sdp` and `ast` (see [`crate::sdp::Backend`]).
+    /// interior point or Sliding Frank–Wolfe for `sdp` and `ast` (see [`crate::Backend`]).
     pub solver: Option<&'static str>,
     /// Solver iterations (0 for direct methods).
     pub iterations: usize,
@@ -294,7 +287,99 @@ pub struct Diagnostics {
     pub crb_std_position_fc: Option<Vec<f64>>,
 }
 
+/// Assembles the [`Diagnostics`] of an estimate; the only way to finish one is
+/// [`DiagnosticsBuilder::noise`], so that every estimator runs the shared noise assessment.
+///
+/// ```
+/// use finespike::{Complex64, Diagnostics, Measurements, Spikes};
+/// let data = Measurements::full_band(2, &[Complex64::new(1.0, 0.0); 5])?;
+/// let spikes = Spikes::from_parts(&[0.0], &[Complex64::new(1.0, 0.0)])?;
+/// let d = Diagnostics::builder(&data, &spikes).iterations(3).noise(Some(0.1), false);
+/// assert_eq!(d.iterations, 3);
+/// assert!(d.residual_ratio.is_some());
+/// # Ok::<(), finespike::Error>(())
+/// ```
+#[derive(Debug, Clone)]
+#[must_use = "finish the diagnostics with `.noise(sigma, estimated)`"]
+pub struct DiagnosticsBuilder<'a> {
+    data: &'a Measurements,
+    spikes: &'a Spikes,
+    diagnostics: Diagnostics,
+}
+
+impl DiagnosticsBuilder<'_> {
+    /// The numerical solver behind the estimate.
+    pub fn solver(mut self, solver: &'static str) -> Self {
+        self.diagnostics.solver = Some(solver);
+        self
+    }
+
+    /// Solver iterations.
+    pub fn iterations(mut self, iterations: usize) -> Self {
+        self.diagnostics.iterations = iterations;
+        self
+    }
+
+    /// Optimal objective value.
+    pub fn objective(mut self, objective: f64) -> Self {
+        self.diagnostics.objective = Some(objective);
+        self
+    }
+
+    /// Relative duality gap of a convex solve.
+    pub fn duality_gap(mut self, gap: f64) -> Self {
+        self.diagnostics.duality_gap = Some(gap);
+        self
+    }
+
+    /// The dual certificate.
+    pub fn certificate(mut self, certificate: Certificate) -> Self {
+        self.diagnostics.certificate = Some(certificate);
+        self
+    }
+
+    /// The model order a method worked with.
+    pub fn model_order(mut self, order: crate::subspace::ModelOrder) -> Self {
+        self.diagnostics.model_order = Some(order);
+        self
+    }
+
+    /// The method's own warnings, after the separation warnings and before the noise warnings.
+    pub fn warnings(mut self, warnings: impl IntoIterator<Item = Warning>) -> Self {
+        self.diagnostics.warnings.extend(warnings);
+        self
+    }
+
+    /// The solver's status: a status short of usable adds [`Warning::NotConverged`].
+    pub fn status(mut self, status: Status) -> Self {
+        if !status.is_usable() {
+            self.diagnostics
+                .warnings
+                .push(Warning::NotConverged { status });
+        }
+        self
+    }
+
+    /// Finish with the noise level the estimate worked with (`None`: exact data or unknown) and
+    /// whether it was estimated: records it and runs [`Diagnostics::assess_noise`].
+    pub fn noise(mut self, sigma: Option<f64>, estimated: bool) -> Diagnostics {
+        self.diagnostics
+            .assess_noise(self.data, self.spikes, sigma, estimated);
+        self.diagnostics
+    }
+}
+
 impl Diagnostics {
+    /// Start the diagnostics of `spikes` fitted to `data` ([`Diagnostics::describe`]), to be completed
+    /// by the estimator and finished by the noise assessment.
+    pub fn builder<'a>(data: &'a Measurements, spikes: &'a Spikes) -> DiagnosticsBuilder<'a> {
+        DiagnosticsBuilder {
+            data,
+            spikes,
+            diagnostics: Diagnostics::describe(data, spikes),
+        }
+    }
+
     /// Diagnostics for `spikes` fitted to `data`: separation, residual and the separation warnings.
     pub fn describe(data: &Measurements, spikes: &Spikes) -> Self {
         let sep = spikes.min_separation();

@@ -4,35 +4,33 @@
 //! Starting from no spike, each iteration
 //!
 //! 1. adds the point maximising `|(F*r)(t)| = |Σ_k r_k exp(i2πkt)|`, the correlation of the residual
-//!    `r = y − Fμ` with an atom (FFT grid and Newton polish, shared with [`crate::continuous`]);
+//!    `r = y − Fμ` with an atom (FFT grid and Newton polish, shared with [`crate::Sfw`]);
 //! 2. refits all amplitudes by least squares, `min_a ‖y − Φ(τ)a‖₂`;
 //! 3. slides positions and amplitudes jointly by Newton's method on `‖y − Φ(τ)a‖₂²` (the slide of
-//!    [`crate::continuous`] with `λ = 0`);
+//!    Sliding Frank–Wolfe with `λ = 0`);
 //! 4. prunes spikes below the amplitude floor and merges coincident ones;
 //!
 //! and stops when the residual reaches the noise level, `‖r‖² ≤ σ²(|K| + 2√|K|)` (the χ² bound of
 //! [`crate::Tv::delta`]), when a requested number of spikes is reached, or, for exact data, when the
-//! fit is exact to `1e-10‖y‖`. The result is polished by [`crate::refine`] on the exact model.
+//! fit is exact to `1e-10‖y‖`. The result is polished by the shared Levenberg–Marquardt polish on the exact model.
 //!
 //! This is ADCG (Boyd, Schiebinger & Recht 2017, SIAM J. Optim. 27(2), Alg. 2) without the norm
 //! constraint — a conditional-gradient selection with a nonconvex local improvement, as also in
 //! Sliding Frank–Wolfe (Denoyelle, Duval, Peyré & Soubies 2019, Inverse Problems 36(1)). Its status
 //! says whether the stopping rule was met; there is no optimality certificate (use
-//! [`crate::continuous::Sfw`] for a certified convex solution).
+//! [`crate::Sfw`] for a certified convex solution).
 
-use crate::continuous::certificate::scan;
-use crate::continuous::kernel::Model;
-use crate::continuous::lasso::least_squares;
-use crate::continuous::resolve_sigma;
-use crate::continuous::slide::{slide, Point};
 use crate::error::{check, Error, Result};
-use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
+use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status};
+use crate::kernels::band::Model;
+use crate::kernels::lstsq::on_band as least_squares;
+use crate::kernels::peaks::scan;
+use crate::kernels::refine::{refine, RefineSettings};
+use crate::kernels::slide::{slide, Point};
+use crate::kernels::EXACT_STOP;
 use crate::model::{wrap, Measurements};
-use crate::refine::{refine, RefineSettings};
+use crate::noise::resolve_noise as resolve_sigma;
 use std::time::Instant;
-
-/// Relative residual at which a fit to data declared exact is complete.
-const EXACT_STOP: f64 = 1e-10;
 
 /// Settings of the greedy fit; the defaults work for the demo and test problems.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -46,7 +44,7 @@ pub struct GreedySettings {
     pub floor_sigmas: f64,
     /// Spikes closer than this many Rayleigh lengths are merged (default 0.05, as [`crate::PostProcess`]).
     pub merge_distance_fc: f64,
-    /// Final local least-squares polish ([`crate::refine`]).
+    /// Final local least-squares polish (the shared Levenberg–Marquardt polish).
     pub refine: RefineSettings,
 }
 
@@ -126,7 +124,7 @@ impl GreedySettings {
 ///
 /// # Examples
 /// ```
-/// use finespike::greedy::Greedy;
+/// use finespike::Greedy;
 /// use finespike::{Estimator, Scenario};
 /// // An invented scene: 5 lines at fc = 64, 1.5/fc apart, 30 dB.
 /// let sample = Scenario::new(64, 5).with_separation(1.5).with_snr_db(30.0).with_seed(2).generate()?;
@@ -272,13 +270,10 @@ impl Estimator for Greedy {
             Stop::Limit => Status::IterationLimit,
             Stop::Stalled => Status::NumericalFailure,
         };
-        let mut diagnostics = Diagnostics::describe(data, &spikes);
-        if !status.is_usable() {
-            diagnostics.warnings.push(Warning::NotConverged { status });
-        }
-        diagnostics.iterations = iterations;
-        diagnostics.sigma = sigma;
-        diagnostics.sigma_estimated = estimated;
+        let mut diagnostics = Diagnostics::builder(data, &spikes)
+            .status(status)
+            .iterations(iterations)
+            .noise(sigma, estimated);
         diagnostics.solve_seconds = start.elapsed().as_secs_f64();
         Ok(Estimate {
             method: self.name(),

@@ -31,73 +31,54 @@
 
 #![warn(missing_docs)]
 
-pub mod amplitudes;
-pub mod bounds;
-pub mod continuous;
-pub mod dual;
-pub mod error;
-pub mod estimator;
-pub mod greedy;
+// Layers, each importing only from the ones above it:
+//   error, model                 validated data, spikes, the forward operator, thresholds
+//   estimator                    the Estimator trait, Estimate, Status, Warning, Diagnostics
+//   kernels, dual, bounds,       shared numerics: band frame, peak scan, least squares, polish,
+//   noise, postprocess           Hankel SVD; dual polynomial; CRB; σ; the shared post-processing
+//   tv, greedy, grid, subspace   the estimators
+//   registry, eval               methods by name; file formats, scenes, scoring and sweeps
+mod bounds;
+mod dual;
+mod error;
+mod estimator;
+pub mod eval;
+mod greedy;
 pub mod grid;
-pub mod io;
 mod kernels;
-pub mod metrics;
 pub mod model;
-pub mod noise;
-pub mod postprocess;
-pub mod refine;
-pub mod scenario;
-pub mod sdp;
+mod noise;
+mod postprocess;
+pub mod registry;
 pub mod subspace;
-pub mod sweep;
+pub mod tv;
 
 // The pure-Rust BLAS/LAPACK symbols clarabel's PSD cone links against.
 #[cfg(feature = "pure-lapack")]
 extern crate finespike_lapack;
 
+pub use num_complex;
+pub use num_complex::Complex64;
+
 pub use bounds::{crb, crb_for, single_tone_position_variance, Crb, SpikeBound};
-pub use continuous::{Sfw, SfwSettings};
 pub use dual::{Certificate, DualPolynomial};
 pub use error::{Error, Result};
 pub use estimator::{
-    Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning, CLASSICAL_SEPARATION_FC,
-    PROVEN_SEPARATION_FC,
+    Diagnostics, DiagnosticsBuilder, Estimate, Estimator, NoiseLevel, Status, Warning,
 };
+pub use eval::metrics::{MatchSettings, Score};
+pub use eval::scenario::{AmplitudeKind, Sample, Scenario};
 pub use greedy::{Greedy, GreedySettings};
 pub use grid::{GridL1, GridSettings};
-pub use metrics::{MatchSettings, Score};
-pub use model::{wrap_distance, Domain, Measurements, Spike, Spikes};
+pub use kernels::refine::RefineSettings;
+pub use model::{
+    wrap_distance, Domain, Measurements, Spike, Spikes, CLASSICAL_SEPARATION_FC,
+    PROVEN_SEPARATION_FC,
+};
 pub use noise::{estimate_sigma, residual_sigma, SigmaEstimate, SigmaMethod};
 pub use postprocess::PostProcess;
-pub use refine::RefineSettings;
-pub use scenario::{AmplitudeKind, Sample, Scenario};
-pub use sdp::{Ast, Backend, SdpSettings, Tv};
+pub use registry::{estimator_by_name, METHODS};
 pub use subspace::{
     Esprit, MatrixPencil, ModelOrder, Music, OrderMethod, OrderSelection, SubspaceSettings,
 };
-
-/// Names of the estimators available through [`estimator_by_name`].
-pub const METHODS: &[&str] = &[
-    "sdp", "ast", "sfw", "greedy", "grid", "music", "esprit", "pencil",
-];
-
-/// An estimator with default settings, by its method name.
-///
-/// # Errors
-/// [`Error::UnknownMethod`] for a name not in [`METHODS`].
-pub fn estimator_by_name(name: &str) -> Result<Box<dyn Estimator>> {
-    match name {
-        "sdp" => Ok(Box::new(Tv::default())),
-        "ast" => Ok(Box::new(Ast::default())),
-        "sfw" => Ok(Box::new(Sfw::default())),
-        "greedy" => Ok(Box::new(greedy::Greedy::default())),
-        "grid" => Ok(Box::new(GridL1::default())),
-        "music" => Ok(Box::new(Music::default())),
-        "esprit" => Ok(Box::new(Esprit::default())),
-        "pencil" => Ok(Box::new(MatrixPencil::default())),
-        _ => Err(Error::UnknownMethod {
-            name: name.to_string(),
-            known: METHODS.join(", "),
-        }),
-    }
-}
+pub use tv::{Ast, Backend, InteriorPointSettings, Sfw, SlidingSettings, Tv, TvSettings};

@@ -15,6 +15,13 @@ use num_complex::Complex64;
 use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
 
+/// Proven separation threshold for exact recovery by TV minimisation, in Rayleigh units:
+/// `Δ ≥ 1.26/fc` (Fernandez-Granda 2016, Information and Inference 5(3), Thm. 2.2).
+pub const PROVEN_SEPARATION_FC: f64 = 1.26;
+
+/// The original exact-recovery threshold `Δ ≥ 2/fc` (Candès & Fernandez-Granda 2014, CPAM 67(6), Thm. 1.2).
+pub const CLASSICAL_SEPARATION_FC: f64 = 2.0;
+
 /// Wrap a real number onto the torus `[0, 1)`.
 pub fn wrap(t: f64) -> f64 {
     let w = t - t.floor();

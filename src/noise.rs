@@ -132,12 +132,12 @@ pub struct SigmaEstimate {
 /// threshold (2014).
 ///
 /// # Errors
-/// [`Error::RunTooShort`] when the longest contiguous run is shorter than [`MIN_RUN`];
+/// [`Error::RunTooShort`] when the longest contiguous run is shorter than `MIN_RUN`;
 /// [`Error::Numerical`] if the singular value decomposition fails.
 ///
 /// # Examples
 /// ```
-/// use finespike::noise::estimate_sigma;
+/// use finespike::estimate_sigma;
 /// use finespike::{AmplitudeKind, Scenario};
 /// // An invented scene: 3 spikes, fc = 64, 20 dB.
 /// let sample = Scenario::new(64, 3).with_amplitudes(AmplitudeKind::UnitModulus)
@@ -282,7 +282,7 @@ fn longest_run(indices: &[i64]) -> (usize, usize) {
 ///
 /// # Examples
 /// ```
-/// use finespike::noise::residual_sigma;
+/// use finespike::residual_sigma;
 /// use finespike::{Measurements, Spikes};
 /// use num_complex::Complex64;
 /// let data = Measurements::fourier(1, &[-1, 0, 1], &[Complex64::new(1.0, 0.0); 3])?;
@@ -341,9 +341,9 @@ pub(crate) fn resolve_noise(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::eval::scenario::{AmplitudeKind, Scenario};
+    use crate::kernels::refine::{refine, RefineSettings};
     use crate::model::Domain;
-    use crate::refine::{refine, RefineSettings};
-    use crate::scenario::{AmplitudeKind, Scenario};
     use num_complex::Complex64;
 
     fn mean_sd(x: &[f64]) -> (f64, f64) {

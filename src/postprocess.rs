@@ -1,6 +1,6 @@
 //! Post-processing shared by every estimator: merge near-duplicate positions, least-squares (debiased)
 //! amplitudes, drop spikes below a noise-based amplitude floor, an optional local nonlinear
-//! least-squares polish of positions and amplitudes together ([`crate::refine`]), and, with noise, a
+//! least-squares polish of positions and amplitudes together (the shared Levenberg–Marquardt polish), and, with noise, a
 //! significance test of spikes that sit close to another one.
 //!
 //! # Significance of close spikes
@@ -19,16 +19,17 @@
 //! Signal Processing II, §6.5); κ = 4 puts the level at `2Δ/σ² ≥ 32` (common practice: a
 //! 4-sigma detection level).
 
-use crate::amplitudes;
 use crate::error::{check, Result};
+use crate::kernels::lstsq;
+use crate::kernels::refine::{refine, RefineSettings};
 use crate::model::{wrap, wrap_difference, Measurements, Spikes};
-use crate::refine::{refine, RefineSettings};
 
 /// Rounds of polish and merge before giving up on a support that keeps collapsing.
 const MAX_POLISH_PASSES: usize = 4;
 
 /// Settings of the shared post-processing.
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
 pub struct PostProcess {
     /// Candidate positions closer than this many Rayleigh lengths are merged into one (default 0.05).
     pub merge_distance_fc: f64,
@@ -101,10 +102,41 @@ impl PostProcess {
         Ok(self)
     }
 
+    /// Set the relative amplitude floor for exact data, in `[0, 1)`.
+    ///
+    /// # Errors
+    /// [`crate::Error::InvalidSetting`] outside that range.
+    pub fn with_relative_floor(mut self, f: f64) -> Result<Self> {
+        self.relative_floor = check::that(
+            "relative_floor",
+            f,
+            (0.0..1.0).contains(&f),
+            "must lie in [0, 1)",
+        )?;
+        Ok(self)
+    }
+
     /// Turn the least-squares polish on (with these settings) or off.
     pub fn with_refine(mut self, refine: Option<RefineSettings>) -> Self {
         self.refine = refine;
         self
+    }
+
+    /// Every setting checked (fields can be written directly).
+    ///
+    /// # Errors
+    /// [`crate::Error::InvalidSetting`] naming the first setting out of range.
+    pub fn validated(self) -> Result<Self> {
+        let refine = match self.refine {
+            Some(r) => Some(r.validated()?),
+            None => None,
+        };
+        Ok(Self::default()
+            .with_merge_distance_fc(self.merge_distance_fc)?
+            .with_floor_sigmas(self.floor_sigmas)?
+            .with_relative_floor(self.relative_floor)?
+            .with_neighbour_fc(self.neighbour_fc)?
+            .with_refine(refine))
     }
 
     /// The amplitude floor for data `data` with noise level `sigma` (`None` or 0: exact data).
@@ -118,7 +150,7 @@ impl PostProcess {
     /// Turn candidate positions into spikes: merge, fit, drop, polish, drop again.
     ///
     /// # Errors
-    /// From the least-squares fits ([`amplitudes::least_squares`]).
+    /// From the least-squares fits (the shared least squares).
     pub fn apply(
         &self,
         data: &Measurements,
@@ -147,7 +179,7 @@ impl PostProcess {
                     .filter(|s| s.amplitude.norm() >= floor)
                     .map(|s| s.position)
                     .collect();
-                spikes = amplitudes::fit(data, &kept)?;
+                spikes = lstsq::fit(data, &kept)?;
             }
         }
         if let Some(s) = sigma.filter(|s| *s > 0.0) {
@@ -158,7 +190,7 @@ impl PostProcess {
 
     /// Least-squares amplitudes at `positions`, then the polish if it is on.
     fn refit(&self, data: &Measurements, positions: &[f64]) -> Result<Spikes> {
-        let spikes = amplitudes::fit(data, positions)?;
+        let spikes = lstsq::fit(data, positions)?;
         match self.refine {
             Some(rs) if !spikes.is_empty() => Ok(refine(data, &spikes, rs)?.spikes),
             _ => Ok(spikes),
@@ -214,7 +246,7 @@ impl PostProcess {
         let mut positions = positions.to_vec();
         // Drop the weakest spike below the floor one at a time: removing one changes the others' fit.
         loop {
-            let spikes = amplitudes::fit(data, &positions)?;
+            let spikes = lstsq::fit(data, &positions)?;
             let amax = max_abs(&spikes);
             let floor = self.floor(data, sigma, amax);
             let weakest = spikes

@@ -3,7 +3,7 @@
 
 mod common;
 
-use finespike::bounds::{crb, crb_for, single_tone_position_variance};
+use finespike::{crb, crb_for, single_tone_position_variance};
 use finespike::{Spike, Spikes};
 use num_complex::Complex64;
 use serde_json::Value;
@@ -73,7 +73,7 @@ fn crb_files() -> Vec<RefCase> {
 }
 
 /// Largest relative difference of the five per-spike figures against a reference file.
-fn max_rel_diff(bound: &finespike::bounds::Crb, reference: &Value) -> f64 {
+fn max_rel_diff(bound: &finespike::Crb, reference: &Value) -> f64 {
     let spikes = reference["spikes"].as_array().expect("spikes array");
     assert_eq!(bound.per_spike.len(), spikes.len());
     let mut worst: f64 = 0.0;

@@ -243,13 +243,9 @@ fn order_is_passed_on_or_refused_with_the_methods_that_take_one() {
         assert_eq!(v["diagnostics"]["model_order"]["method"], "given");
     }
     // Methods without an order: exit 2, and the message names the methods that take one.
-    let with_order: Vec<&str> = finespike::METHODS
-        .iter()
-        .copied()
-        .filter(|m| finespike::sweep::takes_order(m))
-        .collect();
-    for m in finespike::METHODS {
-        if with_order.contains(m) {
+    let with_order = finespike::registry::methods_with_order();
+    for m in finespike::registry::method_names() {
+        if with_order.contains(&m) {
             continue;
         }
         let out = run(&["recover", "-i", s(&path), "-m", m, "--order", "2"]);
@@ -629,7 +625,7 @@ fn bound_matches_the_library_on_the_same_file() {
             "3",
         ],
     );
-    let file = finespike::io::read_spikes_json(&truth).unwrap();
+    let file = finespike::eval::io::read_spikes_json(&truth).unwrap();
     let sigma = file.sigma.unwrap();
     let k: Vec<i64> = (-8..=8).collect();
     let want = finespike::crb(&k, -8..=8, &file.spikes, sigma).unwrap();
@@ -932,7 +928,7 @@ fn help_is_complete() {
         }
         // Every method name is offered where a method is chosen.
         if sub == "recover" || sub == "plot" {
-            for m in finespike::METHODS {
+            for m in finespike::registry::method_names() {
                 assert!(help.contains(m), "{sub} help lists {m}");
             }
         }
@@ -965,7 +961,7 @@ fn even_time_records_round_trip() {
     assert_eq!(rows[0], "n,re,im");
     assert_eq!(rows.len(), 33);
     assert!(rows[32].starts_with("31,"));
-    let file = finespike::io::read_spikes_json(&truth).unwrap();
+    let file = finespike::eval::io::read_spikes_json(&truth).unwrap();
     assert_eq!(file.fc, Some(15.5));
     let v: Value =
         serde_json::from_str(&ok(&run(&["recover", "-i", s(&csv), "-m", "esprit"]))).unwrap();

@@ -1,4 +1,4 @@
-//! The certified continuous solver (`sfw`, `finespike::continuous`) against the independent clarabel
+//! The certified continuous solver (`sfw`, `finespike::tv::sliding`) against the independent clarabel
 //! path (`sdp` / `ast`) on every case both can run: the reference cases of `tests/refdata` and seeded
 //! Scenario scenes (invented) with fc ≤ 24.
 //!
@@ -14,17 +14,18 @@
 mod common;
 
 use common::{case_names, load_case, score};
-use finespike::continuous::{self, Problem, Sfw, SfwSettings};
+use finespike::tv::{sliding, Problem};
 use finespike::{
     wrap_distance, AmplitudeKind, Ast, Backend, Estimate, Estimator, Measurements, PostProcess,
-    Scenario, SdpSettings, Status, Tv,
+    Scenario, Status, Tv, TvSettings,
 };
+use finespike::{Sfw, SlidingSettings};
 
 const OBJ_TOL: f64 = 1e-6;
 
 /// The clarabel path, whatever the size (the default switches to Sliding Frank–Wolfe at fc = 25).
-fn interior() -> SdpSettings {
-    SdpSettings::default().with_backend(Backend::InteriorPoint)
+fn interior() -> TvSettings {
+    TvSettings::default().with_backend(Backend::InteriorPoint)
 }
 const POS_TOL_FC: f64 = 1e-6;
 
@@ -118,7 +119,7 @@ fn compare_constrained(name: &str, data: &Measurements, sigma: f64) {
     assert_same_positions(name, &ours.spikes, &theirs.spikes, data.fc());
 }
 
-/// AST: `continuous::solve(Penalised { λ = τ })` against `Ast::with_sigma` (clarabel), whose reported
+/// AST: `sliding::solve(Penalised { λ = τ })` against `Ast::with_sigma` (clarabel), whose reported
 /// objective is `½‖y − x̂‖² + τ‖x̂‖_A` (offset included). Positions after the same post-processing.
 fn compare_ast(name: &str, data: &Measurements, sigma: f64) {
     let ast = Ast::with_sigma(sigma).with_settings(interior());
@@ -129,12 +130,7 @@ fn compare_ast(name: &str, data: &Measurements, sigma: f64) {
         "{name}: clarabel {}",
         theirs.status
     );
-    let sol = continuous::solve(
-        data,
-        Problem::Penalised { lambda: tau },
-        &SfwSettings::default(),
-    )
-    .unwrap();
+    let sol = sliding::solve(data, Problem::Penalised { tau }, &TvSettings::default()).unwrap();
     assert_eq!(sol.status, Status::Solved, "{name}");
     assert!(
         sol.certificate.max_modulus <= 1.0 + 1e-6,
@@ -340,7 +336,8 @@ fn iteration_limit_is_reported_honestly() {
     .unwrap();
     let idx: Vec<i64> = (-16..=16).collect();
     let data = Measurements::synthesize(&truth, -16, 16, &idx, finespike::Domain::Fourier).unwrap();
-    let settings = SfwSettings::default().with_max_iter(1).unwrap();
+    let settings =
+        TvSettings::default().with_sliding(SlidingSettings::default().with_max_iter(1).unwrap());
     let est = Sfw::exact()
         .with_settings(settings)
         .estimate(&data)
@@ -352,7 +349,7 @@ fn iteration_limit_is_reported_honestly() {
         .warnings
         .iter()
         .any(|w| matches!(w, finespike::Warning::NotConverged { .. })));
-    let sol = continuous::solve(&data, Problem::Penalised { lambda: 0.01 }, &settings).unwrap();
+    let sol = sliding::solve(&data, Problem::Penalised { tau: 0.01 }, &settings).unwrap();
     assert_eq!(sol.status, Status::IterationLimit);
     // With the default budget both are certified.
     let est = Sfw::exact().estimate(&data).unwrap();
@@ -366,9 +363,9 @@ fn zero_data_give_the_zero_measure() {
     for problem in [
         Problem::Exact,
         Problem::Constrained { delta: 0.1 },
-        Problem::Penalised { lambda: 0.1 },
+        Problem::Penalised { tau: 0.1 },
     ] {
-        let sol = continuous::solve(&data, problem, &SfwSettings::default()).unwrap();
+        let sol = sliding::solve(&data, problem, &TvSettings::default()).unwrap();
         assert_eq!(sol.status, Status::Solved);
         assert!(sol.spikes.is_empty());
         assert_eq!(sol.objective, 0.0);
@@ -378,10 +375,23 @@ fn zero_data_give_the_zero_measure() {
 /// Bad input is a typed error.
 #[test]
 fn invalid_settings_and_problems_are_errors() {
-    let s = SfwSettings::default();
-    assert!(s.with_max_iter(0).is_err());
-    assert!(s.with_tolerance(0.0).is_err());
-    assert!(s.with_tolerance(f64::NAN).is_err());
+    let s = TvSettings::default();
+    let sl = SlidingSettings::default();
+    assert!(sl.with_max_iter(0).is_err());
+    assert!(sl.with_tolerance(0.0).is_err());
+    assert!(sl.with_tolerance(f64::NAN).is_err());
+    // A setting written directly into a field is checked when the solver runs.
+    let mut direct = s;
+    direct.sliding.max_iter = 0;
+    let data = Scenario::new(4, 1).generate().unwrap().data;
+    assert!(matches!(
+        sliding::solve(&data, Problem::Exact, &direct),
+        Err(finespike::Error::InvalidSetting {
+            name: "max_iter",
+            ..
+        })
+    ));
+    assert!(Sfw::exact().with_settings(direct).estimate(&data).is_err());
     assert!(s.with_grid_oversample(4).is_err());
     assert!(s.with_time_limit(-1.0).is_err());
     assert!(s.with_weak_margin(0.7).is_err());
@@ -389,13 +399,11 @@ fn invalid_settings_and_problems_are_errors() {
     for bad in [
         Problem::Constrained { delta: -1.0 },
         Problem::Constrained { delta: f64::NAN },
-        Problem::Penalised { lambda: 0.0 },
-        Problem::Penalised {
-            lambda: f64::INFINITY,
-        },
+        Problem::Penalised { tau: 0.0 },
+        Problem::Penalised { tau: f64::INFINITY },
     ] {
         assert!(matches!(
-            continuous::solve(&data, bad, &s),
+            sliding::solve(&data, bad, &s),
             Err(finespike::Error::InvalidSetting { .. })
         ));
     }
@@ -437,7 +445,7 @@ fn degenerate_scenes_are_reported_honestly() {
                 .estimate(&s.data)
                 .unwrap();
             let optimum = theirs.diagnostics.objective.unwrap();
-            let sol = continuous::solve(&s.data, Problem::Exact, &SfwSettings::default()).unwrap();
+            let sol = sliding::solve(&s.data, Problem::Exact, &TvSettings::default()).unwrap();
             assert!(
                 sol.lower_bound <= optimum * (1.0 + OBJ_TOL),
                 "{name}: {} > {optimum}",
@@ -508,7 +516,7 @@ fn sweep_against_clarabel() {
                     "ast",
                     &noisy.data,
                     Problem::Penalised {
-                        lambda: Ast::with_sigma(noisy.sigma).tau(noisy.sigma, noisy.data.len()),
+                        tau: Ast::with_sigma(noisy.sigma).tau(noisy.sigma, noisy.data.len()),
                     },
                     Ast::with_sigma(noisy.sigma)
                         .with_settings(interior())
@@ -517,7 +525,7 @@ fn sweep_against_clarabel() {
                 ),
             ] {
                 let optimum = sdp.diagnostics.objective.unwrap();
-                let sol = continuous::solve(data, problem, &SfwSettings::default()).unwrap();
+                let sol = sliding::solve(data, problem, &TvSettings::default()).unwrap();
                 total += 1;
                 assert!(
                     sol.lower_bound <= optimum * (1.0 + OBJ_TOL),
@@ -542,7 +550,7 @@ fn sweep_against_clarabel() {
 /// interior point's answer there: exact, constrained (25 dB) and AST, invented scenes at fc = 25.
 #[test]
 fn automatic_backend_matches_the_interior_point_above_the_switch() {
-    use finespike::sdp::{AUTO_SWITCH_BAND_LEN, INTERIOR_POINT};
+    use finespike::tv::{interior::INTERIOR_POINT, AUTO_SWITCH_BAND_LEN};
     let scene = Scenario::new(25, 6).with_separation(1.5).with_seed(4);
     let exact = scene.clone().generate().unwrap();
     let noisy = scene.with_snr_db(25.0).generate().unwrap();
@@ -579,7 +587,7 @@ fn automatic_backend_matches_the_interior_point_above_the_switch() {
         assert_eq!(ours.method, theirs.method);
         assert_eq!(
             ours.diagnostics.solver,
-            Some(continuous::SLIDING_FRANK_WOLFE),
+            Some(finespike::tv::sliding::SLIDING_FRANK_WOLFE),
             "{name}"
         );
         assert_eq!(theirs.diagnostics.solver, Some(INTERIOR_POINT), "{name}");
@@ -614,14 +622,14 @@ fn automatic_backend_matches_the_interior_point_above_the_switch() {
 /// the diagnostics; forcing Sliding Frank–Wolfe reports a status that is not `Solved`.
 #[test]
 fn automatic_backend_falls_back_when_not_certified() {
-    use finespike::sdp::INTERIOR_POINT;
+    use finespike::tv::interior::INTERIOR_POINT;
     let s = Scenario::new(25, 8)
         .with_separation(0.3)
         .with_seed(0)
         .generate()
         .unwrap();
     let forced = Tv::exact()
-        .with_settings(SdpSettings::default().with_backend(Backend::SlidingFrankWolfe))
+        .with_settings(TvSettings::default().with_backend(Backend::SlidingFrankWolfe))
         .estimate(&s.data)
         .unwrap();
     assert_ne!(forced.status, Status::Solved);

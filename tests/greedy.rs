@@ -3,8 +3,8 @@
 mod common;
 
 use common::{load_case, score};
-use finespike::greedy::{Greedy, GreedySettings};
 use finespike::{Domain, Estimator, Scenario, Status};
+use finespike::{Greedy, GreedySettings};
 
 /// Noiseless reference cases at separation ≥ 1.26/fc, subsampled and time-domain cases: positions to
 /// 1e-8/fc. The final fit is the least-squares minimiser on the exact model, whose error is rounding

@@ -3,7 +3,7 @@
 
 mod common;
 
-use finespike::metrics::{score, MatchSettings};
+use finespike::eval::metrics::{score, MatchSettings};
 use finespike::{wrap_distance, Spikes};
 use num_complex::Complex64;
 

@@ -13,7 +13,7 @@
 mod common;
 
 use common::{case_names, load_case, refdata, score};
-use finespike::io::parse_spikes_json;
+use finespike::eval::io::parse_spikes_json;
 use finespike::model::forward;
 use finespike::subspace::{
     pseudospectrum, Decomposition, Esprit, MatrixPencil, Music, OrderMethod, OrderSelection,

@@ -23,7 +23,7 @@ use faer::{c64, Mat, MatRef};
 /// ESPRIT with total least squares (method name `esprit`; Roy & Kailath 1989, IEEE TASSP 37(7)).
 ///
 /// Positions from the eigenvalues of the TLS rotation operator `Ψ = −V_12 V_22^{−1}` (module docs),
-/// amplitudes by least squares on the exact model ([`crate::amplitudes::least_squares`]). Exact data
+/// amplitudes by least squares on the exact model (column-pivoted QR). Exact data
 /// with at least `2s` coefficients are recovered at any separation (Liao & Fannjiang 2016, ACHA 40(1)).
 ///
 /// # Examples

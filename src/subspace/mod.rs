@@ -12,8 +12,8 @@
 //! span the columns of `A_L`; rotational invariance of `A_L` gives the `z_j` as eigenvalues
 //! ([`Esprit`], [`MatrixPencil`]), orthogonality to the noise subspace gives them as roots
 //! ([`Music`]). Positions are `τ_j = −arg(z_j)/(2π)` wrapped to `[0, 1)`; amplitudes are least squares
-//! on the exact model ([`crate::amplitudes::least_squares`]); an optional local least-squares polish
-//! ([`crate::refine`]) is off by default so that the methods stay the classical baselines.
+//! on the exact model (column-pivoted QR); an optional local least-squares polish
+//! (the shared Levenberg–Marquardt polish) is off by default so that the methods stay the classical baselines.
 //!
 //! Exact data with at least `2s` coefficients determine `s` spikes at any separation: with
 //! `L ≥ s + 1` rows and `N − L + 1 ≥ s` columns the Hankel matrix has rank `s` and the subspace methods
@@ -53,13 +53,13 @@ pub use order::{
 };
 pub use pencil::MatrixPencil;
 
-use crate::amplitudes;
 use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status, Warning};
 use crate::kernels::hankel::{self, HankelOperator, RandomizedParams, Subspace};
+use crate::kernels::lstsq;
+use crate::kernels::refine::{refine, RefineSettings};
 use crate::model::{wrap, Measurements};
 use crate::postprocess::PostProcess;
-use crate::refine::{refine, RefineSettings};
 use faer::c64;
 use std::f64::consts::PI;
 use std::time::Instant;
@@ -289,8 +289,8 @@ pub(crate) fn prepare(
     if !data.is_contiguous() {
         return Err(data.gaps_error(
             method.name(),
-            "the subspace methods music, esprit and pencil need one; use 'sdp', 'sfw', 'grid' or \
-             'greedy', which accept gaps",
+            "the subspace methods music, esprit and pencil need one; use 'sdp', which accepts gaps \
+             (as do 'sfw', 'grid' and 'greedy')",
         ));
     }
     let n = data.len();
@@ -468,7 +468,7 @@ pub(crate) fn run(
             .with_refine(settings.refine)
             .apply(data, &positions, sigma)?,
         _ => {
-            let mut spikes = amplitudes::fit(data, &positions)?;
+            let mut spikes = lstsq::fit(data, &positions)?;
             if let Some(rs) = settings.refine {
                 let refined = refine(data, &spikes, rs)?;
                 spikes = refined.spikes;

@@ -5,7 +5,7 @@
 
 pub mod montecarlo;
 
-use finespike::io::{parse_samples, parse_spikes_json, SpikeFile};
+use finespike::eval::io::{parse_samples, parse_spikes_json, SpikeFile};
 use finespike::{wrap_distance, Domain, Measurements, Spikes};
 use std::path::PathBuf;
 

@@ -4,10 +4,10 @@
 //! A scene is held fixed while complex white Gaussian noise, `E|n_k|² = σ²`, is drawn anew for each
 //! trial; per true spike the position RMSE over the trials is divided by the CRB standard deviation
 //! (Stoica & Nehorai 1989, IEEE TASSP 37(5)); missed spikes and trials with a spurious spike are
-//! counted (optimal matching, `finespike::metrics`).
+//! counted (optimal matching, `finespike::eval::metrics`).
 #![allow(dead_code)]
 
-use finespike::metrics::score;
+use finespike::eval::metrics::score;
 use finespike::{crb_for, Estimator, Measurements, Spikes};
 use num_complex::Complex64;
 use rand::rngs::StdRng;

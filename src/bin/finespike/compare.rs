@@ -3,8 +3,13 @@
 use crate::simulate::{scene_error, SceneArgs};
 use crate::{input, noise_level, shown, DomainArg, Failure, ReportFormat, SolverArg};
 use clap::{ArgGroup, Args, ValueEnum};
-use finespike::sweep::{self, configure, takes_order, MethodOptions, Outcome, Summary, Tally};
-use finespike::{crb_for, Error, Estimate, Estimator, NoiseLevel, METHODS};
+use finespike::eval::sweep::{self, Outcome, Summary, Tally};
+use finespike::registry::{configure, MethodOptions};
+
+fn takes_order(name: &str) -> bool {
+    finespike::registry::method(name).is_ok_and(|m| m.takes_order)
+}
+use finespike::{crb_for, Error, Estimate, Estimator, NoiseLevel};
 use indicatif::{ProgressBar, ProgressStyle};
 use serde_json::json;
 use std::io::IsTerminal;
@@ -32,7 +37,7 @@ use std::time::Instant;
 pub struct CompareArgs {
     /// Methods to run, comma-separated (e.g. `sdp,ast,esprit`), or `all`.
     #[arg(long, value_delimiter = ',', default_value = "all",
-          value_parser = clap::builder::PossibleValuesParser::new(METHODS.iter().copied().chain(["all"])))]
+          value_parser = clap::builder::PossibleValuesParser::new(finespike::registry::method_names().chain(["all"])))]
     methods: Vec<String>,
     /// Sample file to run every method on (CSV, header `k,re,im` or `n,re,im`).
     #[arg(long, short, conflicts_with = "SceneArgs")]
@@ -79,17 +84,19 @@ pub struct CompareArgs {
 /// The method names asked for, checked against [`METHODS`].
 fn method_list(asked: &[String]) -> Result<Vec<&'static str>, Failure> {
     if asked.iter().any(|m| m == "all") {
-        return Ok(METHODS.to_vec());
+        return Ok(finespike::registry::method_names().collect());
     }
     let mut out = Vec::new();
     for name in asked {
-        match METHODS.iter().find(|m| **m == name.as_str()) {
-            Some(m) if !out.contains(m) => out.push(*m),
+        match finespike::registry::method_names().find(|m| *m == name.as_str()) {
+            Some(m) if !out.contains(&m) => out.push(m),
             Some(_) => {}
             None => {
                 return Err(Failure::Usage(format!(
                     "unknown method '{name}' in --methods: known methods are {}, or all",
-                    METHODS.join(", ")
+                    finespike::registry::method_names()
+                        .collect::<Vec<_>>()
+                        .join(", ")
                 )))
             }
         }
@@ -152,24 +159,6 @@ pub fn run(a: CompareArgs) -> Result<(), Failure> {
                     .join(", "),
                 without.join(", ")
             );
-        }
-    }
-    // Methods this tool cannot pass settings to run on their own defaults: say so when the others get
-    // a noise level, since the comparison is then not like for like.
-    let gives_sigma = match &a.input {
-        Some(_) => a.sigma.is_some(),
-        None => !a.estimate_sigma,
-    };
-    if gives_sigma {
-        for m in &methods {
-            if let Ok(c) = configure(m, &MethodOptions::default()) {
-                if c.defaults_only {
-                    eprintln!(
-                        "note: method '{m}' runs with its own default settings (noise level estimated \
-                         from the data); the other methods are given σ"
-                    );
-                }
-            }
         }
     }
     match (&a.input, a.trials) {

@@ -1,7 +1,7 @@
 //! Reading input files with errors that name the file, the line, what was found and what was expected.
 
 use crate::{shown, DomainArg};
-use finespike::io::{self, SpikeFile};
+use finespike::eval::io::{self, SpikeFile};
 use finespike::{Domain, Error, Measurements};
 use std::path::{Path, PathBuf};
 

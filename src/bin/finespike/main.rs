@@ -21,7 +21,7 @@ mod recover;
 mod simulate;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
-use finespike::{AmplitudeKind, Domain, Error, NoiseLevel, METHODS};
+use finespike::{AmplitudeKind, Domain, Error, NoiseLevel};
 use std::path::Path;
 use std::process::ExitCode;
 
@@ -123,7 +123,7 @@ impl AmpArg {
 #[derive(Args, Debug, Clone)]
 struct MethodArgs {
     /// Method name (the convex `sdp` is the default).
-    #[arg(long, short, default_value = "sdp", value_parser = clap::builder::PossibleValuesParser::new(METHODS))]
+    #[arg(long, short, default_value = "sdp", value_parser = clap::builder::PossibleValuesParser::new(finespike::registry::method_names()))]
     method: String,
     /// Noise standard deviation σ (E|n_k|² = σ²) for the methods that use one; 0 means exact data;
     /// omitted: estimated from the data.
@@ -221,24 +221,20 @@ fn noise_level(sigma: Option<f64>) -> NoiseLevel {
 /// Build the estimator of `args`; an invalid setting or an option the method does not take is a
 /// command-line error. Notes about ignored options go to stderr.
 fn configure(args: &MethodArgs) -> Result<Box<dyn finespike::Estimator>, Failure> {
-    let options = finespike::sweep::MethodOptions {
+    let options = finespike::registry::MethodOptions {
         noise: noise_level(args.sigma),
         order: args.order,
         backend: args.solver.backend(),
     };
-    let configured = finespike::sweep::configure(&args.method, &options).map_err(|e| match e {
-        Error::OptionNotTaken { method, takers, .. } => Failure::Usage(format!(
+    let configured =
+        finespike::registry::configure(&args.method, &options).map_err(|e| match e {
+            Error::OptionNotTaken { method, takers, .. } => Failure::Usage(format!(
             "--order is not available for method '{method}': it takes no model order; the methods \
              that take one are {takers}"
         )),
-        other => Failure::Usage(other.to_string()),
-    })?;
-    if configured.defaults_only && args.sigma.is_some() {
-        eprintln!(
-            "note: method '{}' runs with its own default settings here; --sigma is not passed on",
-            args.method
-        );
-    } else {
+            other => Failure::Usage(other.to_string()),
+        })?;
+    {
         for what in &configured.unused {
             let flag = if *what == "noise level" {
                 "--sigma"

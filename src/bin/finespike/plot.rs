@@ -3,8 +3,9 @@
 use crate::recover::report_warnings;
 use crate::{configure, file_name, input, shown, write_output, Failure, MethodArgs};
 use clap::Args;
-use finespike::io::SpikeFile;
-use finespike::{metrics, Domain, DualPolynomial, Estimate, Measurements, Spikes};
+use finespike::eval::io::SpikeFile;
+use finespike::eval::metrics;
+use finespike::{Domain, DualPolynomial, Estimate, Measurements, Spikes};
 use num_complex::Complex64;
 use plotters::prelude::*;
 use std::path::PathBuf;

@@ -2,8 +2,8 @@
 
 use crate::{configure, input, noise_level, Failure, Format, MethodArgs};
 use clap::Args;
-use finespike::io;
-use finespike::sweep::takes_noise_level;
+use finespike::eval::io;
+
 use finespike::{Estimate, NoiseLevel};
 
 /// Recover spikes from a sample file with one method.
@@ -37,7 +37,7 @@ pub fn run(a: RecoverArgs) -> Result<(), Failure> {
             "{}",
             summary(
                 &estimate,
-                takes_noise_level(&a.method.method),
+                finespike::registry::method(&a.method.method).is_ok(),
                 noise_level(a.method.sigma)
             )
         );

@@ -2,7 +2,7 @@
 
 use crate::{write_output, AmpArg, DomainArg, Failure};
 use clap::Args;
-use finespike::io::SpikeFile;
+use finespike::eval::io::SpikeFile;
 use finespike::{Error, Scenario};
 use std::path::PathBuf;
 
@@ -100,7 +100,7 @@ pub fn run(a: SimulateArgs) -> Result<(), Failure> {
         spikes: sample.truth.clone(),
     };
     let json = serde_json::to_string_pretty(&file).map_err(|e| Failure::Output(e.to_string()))?;
-    write_output(&a.out, &finespike::io::samples_to_csv(&sample.data))?;
+    write_output(&a.out, &finespike::eval::io::samples_to_csv(&sample.data))?;
     write_output(&a.truth, &(json + "\n"))?;
     Ok(())
 }

@@ -31,11 +31,13 @@
 //! dual vector of the constrained problem: its dual `max Re⟨y, c⟩ − δ‖c‖₂ s.t. ‖F*c‖∞ ≤ 1` takes the
 //! value `(Re⟨y, r⟩ − ‖r‖²)/λ = Re⟨Fμ, r⟩/λ = ‖μ‖_TV` there.
 
-use super::certificate::{projected_dual, scan, scan_above, vanishing_derivative, Scan};
-use super::kernel::Model;
-use super::lasso::{lasso, least_squares};
-use super::slide::{slide, Point};
+use super::certificate::{projected_dual, vanishing_derivative};
+use super::lasso::lasso;
 use crate::estimator::Status;
+use crate::kernels::band::Model;
+use crate::kernels::lstsq::on_band as least_squares;
+use crate::kernels::peaks::{scan, scan_above, Scan};
+use crate::kernels::slide::{slide, Point};
 use num_complex::Complex64;
 use std::time::Instant;
 
@@ -117,7 +119,7 @@ const MERGE_FC: f64 = 1e-3;
 /// (`≈ √|K|` growth), divided by λ. A factor 2 over the anchor length for safety.
 fn rounding_floor(model: &Model, point: &Point, lambda: f64) -> f64 {
     let ymax = model.y.iter().map(|v| v.norm()).fold(0.0, f64::max);
-    let anchor = 2.0 * super::kernel::ANCHOR as f64;
+    let anchor = 2.0 * crate::kernels::band::ANCHOR as f64;
     anchor * f64::EPSILON * (model.len() as f64).sqrt() * (point.l1() + ymax) / lambda
 }
 

@@ -18,6 +18,7 @@ use std::f64::consts::PI;
 
 /// Settings of the refinement.
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
 pub struct RefineSettings {
     /// Iteration limit (default 50).
     pub max_iter: usize,
@@ -50,6 +51,40 @@ impl RefineSettings {
             "must lie in (0, 1]",
         )?;
         Ok(self)
+    }
+
+    /// Set the iteration limit (at least 1).
+    ///
+    /// # Errors
+    /// [`crate::Error::InvalidSetting`] for 0.
+    pub fn with_max_iter(mut self, max_iter: usize) -> Result<Self> {
+        self.max_iter = check::iterations("max_iter", max_iter)?;
+        Ok(self)
+    }
+
+    /// Set the relative stopping tolerance on the residual norm, in `[0, 1)`.
+    ///
+    /// # Errors
+    /// [`crate::Error::InvalidSetting`] outside that range.
+    pub fn with_rel_tolerance(mut self, tol: f64) -> Result<Self> {
+        self.rel_tolerance = check::that(
+            "rel_tolerance",
+            tol,
+            (0.0..1.0).contains(&tol),
+            "must lie in [0, 1)",
+        )?;
+        Ok(self)
+    }
+
+    /// Every setting checked (fields can be written directly).
+    ///
+    /// # Errors
+    /// [`crate::Error::InvalidSetting`] naming the first setting out of range.
+    pub fn validated(self) -> Result<Self> {
+        Self::default()
+            .with_max_iter(self.max_iter)?
+            .with_max_shift_fc(self.max_shift_fc)?
+            .with_rel_tolerance(self.rel_tolerance)
     }
 }
 

@@ -1,16 +1,17 @@
 //! Running several estimators on the same data and tallying how they did against a known truth: the
 //! logic behind the command line's `compare`, usable from Rust for Monte Carlo studies.
 //!
-//! - [`configure`] builds an estimator by name (from [`crate::METHODS`]) with a noise level and a model
-//!   order where the method takes them, and says which requested options it does not use.
+//! - [`crate::registry::configure`] builds an estimator by name with a noise level and a model order
+//!   where the method takes them, and says which requested options it does not use.
 //! - [`run`] times one estimator on one data set and scores it against the truth
-//!   ([`crate::metrics::score`], optimal gated matching), pairing each found spike with the Cramér–Rao
+//!   ([`super::metrics::score`], optimal gated matching), pairing each found spike with the Cramér–Rao
 //!   bound of its true position ([`crate::bounds::crb_for`]).
 //! - [`Tally`] adds up the outcomes of one method over many trials into a [`Summary`]: found / missed /
 //!   spurious, RMS position error in Rayleigh units and against the bound, median time.
 //!
 //! ```
-//! use finespike::sweep::{configure, run, MethodOptions, Tally};
+//! use finespike::eval::sweep::{run, Tally};
+//! use finespike::registry::{configure, MethodOptions};
 //! use finespike::{NoiseLevel, Scenario};
 //! // Invented scenes: 2 spikes at fc = 8, 2/fc apart, 30 dB, two seeds.
 //! let options = MethodOptions { noise: NoiseLevel::Estimate, ..MethodOptions::default() };
@@ -27,145 +28,12 @@
 //! # Ok::<(), finespike::Error>(())
 //! ```
 
+use super::metrics::{score, Score};
 use crate::bounds::Crb;
-use crate::error::{Error, Result};
-use crate::estimator::{Estimator, NoiseLevel, Status};
-use crate::metrics::{score, Score};
+use crate::estimator::{Estimator, Status};
 use crate::model::{Measurements, Spikes};
-use crate::subspace::{OrderSelection, SubspaceSettings};
-use crate::{
-    estimator_by_name, Ast, Backend, Esprit, Greedy, GridL1, MatrixPencil, Music, SdpSettings, Sfw,
-    Tv, METHODS,
-};
 use serde::Serialize;
 use std::time::Instant;
-
-/// What a caller asks of an estimator beyond its defaults.
-#[derive(Debug, Clone, Copy, PartialEq, Default)]
-pub struct MethodOptions {
-    /// Noise level, for the methods that work with one (default: estimated from the data).
-    pub noise: NoiseLevel,
-    /// Model order (number of spikes), for the methods that take one (default: the method decides).
-    pub order: Option<usize>,
-    /// Solver of the convex problem for `sdp` and `ast` (default [`Backend::Auto`]).
-    pub backend: Backend,
-}
-
-/// Whether the named method works with a noise level: the convex methods, `grid` and `greedy` in the
-/// estimate itself, the subspace methods in their diagnostics only (residual check, plug-in CRB).
-pub fn takes_noise_level(name: &str) -> bool {
-    matches!(
-        name,
-        "sdp" | "ast" | "sfw" | "grid" | "greedy" | "music" | "esprit" | "pencil"
-    )
-}
-
-/// Whether the named method takes a model order: the subspace methods (`music`, `esprit`, `pencil`:
-/// [`OrderSelection::Given`]) and `greedy` ([`Greedy::with_count`]).
-pub fn takes_order(name: &str) -> bool {
-    matches!(name, "greedy" | "music" | "esprit" | "pencil")
-}
-
-/// The names in [`METHODS`] that take a model order, in that order.
-pub fn methods_with_order() -> Vec<&'static str> {
-    METHODS.iter().copied().filter(|m| takes_order(m)).collect()
-}
-
-/// An estimator built by [`configure`], and the requested options it does not use.
-#[derive(Debug)]
-pub struct Configured {
-    /// The estimator.
-    pub estimator: Box<dyn Estimator>,
-    /// Requested options that this method ignores (`"noise level"`), for a note to the user.
-    pub unused: Vec<&'static str>,
-    /// True when this module has no specific settings for the method and it runs exactly as
-    /// [`estimator_by_name`] builds it (its own defaults, e.g. a noise level estimated from the data).
-    pub defaults_only: bool,
-}
-
-/// Build the estimator called `name` with `options` applied where the method takes them.
-///
-/// A method in [`METHODS`] that this module has no specific settings for runs with its defaults from
-/// [`estimator_by_name`]; a given noise level is then listed in [`Configured::unused`].
-///
-/// # Errors
-/// - [`Error::UnknownMethod`] for a name not in [`METHODS`];
-/// - [`Error::OptionNotTaken`] for a model order asked of a method without one (the message lists the
-///   methods that take one);
-/// - [`Error::InvalidSetting`] for an order of 0 or a noise level that is negative or not finite.
-pub fn configure(name: &str, options: &MethodOptions) -> Result<Configured> {
-    let noise = options.noise.validated()?;
-    let Some(&name) = METHODS.iter().find(|m| **m == name) else {
-        return Err(Error::UnknownMethod {
-            name: name.to_string(),
-            known: METHODS.join(", "),
-        });
-    };
-    if options.order.is_some() && !takes_order(name) {
-        return Err(Error::OptionNotTaken {
-            method: name.to_string(),
-            option: "model order",
-            takers: methods_with_order().join(", "),
-        });
-    }
-    let subspace = |order: Option<usize>| -> Result<SubspaceSettings> {
-        let settings = SubspaceSettings::default().with_noise(noise)?;
-        match order {
-            Some(n) => settings.with_order(OrderSelection::Given(n)),
-            None => Ok(settings),
-        }
-    };
-    let mut unused = Vec::new();
-    if noise != NoiseLevel::Estimate && !takes_noise_level(name) {
-        unused.push("noise level");
-    }
-    if options.backend != Backend::Auto && !matches!(name, "sdp" | "ast") {
-        unused.push("solver choice");
-    }
-    let convex = SdpSettings::default().with_backend(options.backend);
-    let mut defaults_only = false;
-    let estimator: Box<dyn Estimator> = match name {
-        "sdp" => Box::new(Tv {
-            noise,
-            settings: convex,
-        }),
-        "ast" => Box::new(Ast {
-            noise,
-            settings: convex,
-            ..Ast::default()
-        }),
-        "sfw" => Box::new(Sfw {
-            noise,
-            ..Sfw::default()
-        }),
-        "grid" => Box::new(GridL1 {
-            noise,
-            ..GridL1::default()
-        }),
-        "greedy" => {
-            let g = Greedy {
-                noise,
-                ..Greedy::default()
-            };
-            Box::new(match options.order {
-                Some(n) => g.with_count(n)?,
-                None => g,
-            })
-        }
-        "music" => Box::new(Music::new(subspace(options.order)?)),
-        "esprit" => Box::new(Esprit::new(subspace(options.order)?)),
-        "pencil" => Box::new(MatrixPencil::new(subspace(options.order)?)),
-        other => {
-            defaults_only = true;
-            estimator_by_name(other)?
-        }
-    };
-    Ok(Configured {
-        estimator,
-        unused,
-        defaults_only,
-    })
-}
 
 /// One method's result on one data set, scored against the truth.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -487,7 +355,9 @@ pub fn to_csv(summaries: &[Summary]) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::metrics::Match;
+    use crate::eval::metrics::Match;
+    use crate::registry::{configure, MethodOptions};
+    use crate::{Backend, NoiseLevel};
     use num_complex::Complex64;
 
     fn outcome(errors_fc: &[f64], missed: usize, spurious: usize, crb_std_fc: f64) -> Outcome {
@@ -571,71 +441,6 @@ mod tests {
             .unwrap()
             .starts_with("music"));
         assert_eq!(to_csv(&[s]).lines().count(), 2);
-    }
-
-    #[test]
-    fn order_only_where_a_method_takes_one() {
-        let with_order = MethodOptions {
-            noise: NoiseLevel::Estimate,
-            order: Some(2),
-            backend: Backend::Auto,
-        };
-        for name in METHODS {
-            let r = configure(name, &with_order);
-            assert_eq!(r.is_ok(), takes_order(name), "{name}");
-            if let Err(e) = r {
-                assert!(e.to_string().contains("music"), "{e}");
-            }
-        }
-        assert!(matches!(
-            configure("nosuch", &MethodOptions::default()),
-            Err(Error::UnknownMethod { .. })
-        ));
-        let zero = MethodOptions {
-            noise: NoiseLevel::Estimate,
-            order: Some(0),
-            backend: Backend::Auto,
-        };
-        assert!(configure("esprit", &zero).is_err());
-        let known = MethodOptions {
-            noise: NoiseLevel::Known(0.1),
-            order: None,
-            backend: Backend::Auto,
-        };
-        // The subspace methods use a given σ in their diagnostics.
-        let music = configure("music", &known).unwrap();
-        assert!(music.unused.is_empty() && !music.defaults_only);
-        let sdp = configure("sdp", &known).unwrap();
-        assert!(sdp.unused.is_empty() && !sdp.defaults_only);
-        // The solver choice reaches sdp and ast; other methods report it unused.
-        let sliding = MethodOptions {
-            noise: NoiseLevel::Exact,
-            order: None,
-            backend: Backend::SlidingFrankWolfe,
-        };
-        assert_eq!(
-            configure("esprit", &sliding).unwrap().unused,
-            vec!["solver choice"]
-        );
-        let one = Complex64::new(1.0, 0.0);
-        let truth = Spikes::from_parts(&[0.2, 0.6], &[one, one]).unwrap();
-        let k: Vec<i64> = (-8..=8).collect();
-        let data = Measurements::fourier(8, &k, &crate::model::forward(&truth, &k)).unwrap();
-        let est = configure("sdp", &sliding)
-            .unwrap()
-            .estimator
-            .estimate(&data)
-            .unwrap();
-        assert_eq!(
-            est.diagnostics.solver,
-            Some(crate::continuous::SLIDING_FRANK_WOLFE)
-        );
-        let bad = MethodOptions {
-            noise: NoiseLevel::Known(-1.0),
-            order: None,
-            backend: Backend::Auto,
-        };
-        assert!(configure("sdp", &bad).is_err());
     }
 
     #[test]

@@ -10,15 +10,14 @@
 //! minimisation — complex soft-thresholding `a_j ← S_λ(b_j − Σ_{l≠j} G_{jl} a_l)/G_{jj}`,
 //! `S_λ(z) = z·max(0, 1 − λ/|z|)` (Friedman, Hastie, Höfling & Tibshirani 2007, Ann. Appl. Stat. 1(2)) —
 //! which identifies the zero pattern, then Newton's method on the nonzero amplitudes (the slide of
-//! [`super::slide`] with positions frozen), which reaches rounding level; the optimality (KKT)
+//! [`crate::kernels::slide`] with positions frozen), which reaches rounding level; the optimality (KKT)
 //! conditions `|b_j − (Ga)_j| ≤ λ` for `a_j = 0` and `b_j − (Ga)_j = λ a_j/|a_j|` otherwise are checked
 //! and the two stages repeated until they hold. With `λ = 0` it is plain least squares, solved by a
-//! column-pivoted QR factorisation (faer).
+//! column-pivoted QR factorisation ([`crate::kernels::lstsq`]).
 
-use super::kernel::Model;
-use super::slide::{slide, Point};
-use faer::linalg::solvers::SolveLstsqCore;
-use faer::{c64, Conj, Mat};
+use crate::kernels::band::Model;
+use crate::kernels::lstsq::on_band;
+use crate::kernels::slide::{slide, Point};
 use num_complex::Complex64;
 
 /// Relative KKT tolerance at which the amplitudes count as optimal: rounding in `b − Ga` is about
@@ -36,27 +35,6 @@ pub(crate) fn soft_threshold(z: Complex64, lambda: f64) -> Complex64 {
     }
 }
 
-/// Least-squares amplitudes `min_a ‖y − Φa‖₂` at the positions of `point` (its amplitudes are
-/// replaced). Returns false when the fit is not finite (coincident positions).
-pub(crate) fn least_squares(model: &Model, point: &mut Point) -> bool {
-    let s = point.len();
-    if s == 0 {
-        return true;
-    }
-    let e = model.atoms(&point.tau);
-    let m = model.len();
-    let phi = Mat::<c64>::from_fn(m, s, |i, j| e[(i, j)].conj());
-    let mut rhs = Mat::<c64>::from_fn(m, 1, |i, _| model.y[i]);
-    phi.col_piv_qr()
-        .solve_lstsq_in_place_with_conj(Conj::No, rhs.as_mut());
-    let amp: Vec<Complex64> = (0..s).map(|j| rhs[(j, 0)]).collect();
-    if amp.iter().any(|a| !(a.re.is_finite() && a.im.is_finite())) {
-        return false;
-    }
-    point.amp = amp;
-    true
-}
-
 /// Solve the LASSO in the amplitudes of `point` (warm-started from its amplitudes; zero amplitudes are
 /// kept in place, not removed). Returns true when the KKT conditions hold to [`KKT_TOLERANCE`].
 pub(crate) fn lasso(model: &Model, point: &mut Point, lambda: f64) -> bool {
@@ -65,7 +43,7 @@ pub(crate) fn lasso(model: &Model, point: &mut Point, lambda: f64) -> bool {
         return true;
     }
     if lambda == 0.0 {
-        return least_squares(model, point);
+        return on_band(model, point);
     }
     let e = model.atoms(&point.tau);
     // b_j = Σ_k y_k exp(i2πkτ_j) and G_{jl} = D_0(τ_j − τ_l) = conj((EᴴE)_{jl}).
@@ -190,7 +168,7 @@ mod tests {
             Complex64::new(0.0, 0.0),
             "an empty spot gets no mass"
         );
-        let f0 = super::super::slide::objective(&m, &p, lambda);
+        let f0 = crate::kernels::slide::objective(&m, &p, lambda);
         for v in 0..8 {
             for h in [1e-4, -1e-4] {
                 let mut q = p.clone();
@@ -199,7 +177,7 @@ mod tests {
                 } else {
                     q.amp[v - 4].im += h;
                 }
-                assert!(super::super::slide::objective(&m, &q, lambda) >= f0 - 1e-15);
+                assert!(crate::kernels::slide::objective(&m, &q, lambda) >= f0 - 1e-15);
             }
         }
     }

@@ -28,7 +28,7 @@
 //!
 //! (derived for this crate; checked against finite differences in the tests below).
 
-use super::kernel::Model;
+use crate::kernels::band::Model;
 use faer::linalg::solvers::Solve;
 use faer::{Mat, Side};
 use num_complex::Complex64;

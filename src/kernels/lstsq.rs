@@ -1,13 +1,30 @@
-//! Least-squares amplitudes on a given support: `min_a ‖y − Φ(τ̂) a‖₂`, `Φ_kj = exp(−i2πkτ̂_j)`.
+//! Least-squares amplitudes on a given support: `min_a ‖y − Φ(τ̂) a‖₂`, `Φ_kj = exp(−i2πkτ̂_j)`, in the
+//! data's own frame ([`least_squares`], [`fit`]) and in the centred frame of a band model
+//! ([`on_band`]).
 //!
-//! Solved by a column-pivoted QR factorisation (faer), which stays accurate when two support points are
-//! close and `Φ` is ill-conditioned.
+//! One solver for both: a column-pivoted QR factorisation (faer), which stays accurate when two
+//! support points are close and `Φ` is ill-conditioned.
 
 use crate::error::{Error, Result};
+use crate::kernels::band::Model;
+use crate::kernels::slide::Point;
 use crate::model::{atom, Measurements, Spike, Spikes};
 use faer::linalg::solvers::SolveLstsqCore;
 use faer::{c64, Conj, Mat};
 use num_complex::Complex64;
+
+/// `argmin_a ‖rhs − Φ a‖₂` by column-pivoted QR; `None` when the solution is not finite (a
+/// numerically rank-deficient `Φ`: coincident positions).
+fn solve(phi: Mat<c64>, rhs: impl Fn(usize) -> Complex64) -> Option<Vec<Complex64>> {
+    let (m, s) = (phi.nrows(), phi.ncols());
+    let mut rhs = Mat::<c64>::from_fn(m, 1, |r, _| rhs(r));
+    phi.col_piv_qr()
+        .solve_lstsq_in_place_with_conj(Conj::No, rhs.as_mut());
+    let out: Vec<Complex64> = (0..s).map(|j| rhs[(j, 0)]).collect();
+    out.iter()
+        .all(|a| a.re.is_finite() && a.im.is_finite())
+        .then_some(out)
+}
 
 /// Least-squares amplitudes of spikes at `positions` for the measurements `data`.
 ///
@@ -29,18 +46,11 @@ pub fn least_squares(data: &Measurements, positions: &[f64]) -> Result<Vec<Compl
         });
     }
     let k = data.indices();
-    let phi = Mat::<c64>::from_fn(m, s, |r, c| to_faer(atom(k[r], positions[c])));
-    let mut rhs = Mat::<c64>::from_fn(m, 1, |r, _| to_faer(data.values()[r]));
-    phi.col_piv_qr()
-        .solve_lstsq_in_place_with_conj(Conj::No, rhs.as_mut());
-    let out: Vec<Complex64> = (0..s).map(|j| from_faer(rhs[(j, 0)])).collect();
-    if out.iter().any(|a| !(a.re.is_finite() && a.im.is_finite())) {
-        return Err(Error::Numerical {
-            step: "least-squares amplitudes",
-            detail: "the support is numerically rank deficient (two positions coincide?)".into(),
-        });
-    }
-    Ok(out)
+    let phi = Mat::<c64>::from_fn(m, s, |r, c| atom(k[r], positions[c]));
+    solve(phi, |r| data.values()[r]).ok_or_else(|| Error::Numerical {
+        step: "least-squares amplitudes",
+        detail: "the support is numerically rank deficient (two positions coincide?)".into(),
+    })
 }
 
 /// Spikes at `positions` with least-squares amplitudes.
@@ -58,14 +68,22 @@ pub fn fit(data: &Measurements, positions: &[f64]) -> Result<Spikes> {
     )
 }
 
-#[inline]
-pub(crate) fn to_faer(z: Complex64) -> c64 {
-    c64::new(z.re, z.im)
-}
-
-#[inline]
-pub(crate) fn from_faer(z: c64) -> Complex64 {
-    Complex64::new(z.re, z.im)
+/// Least-squares amplitudes `min_a ‖y − Φa‖₂` at the positions of `point`, in the band model's
+/// centred frame (its amplitudes are replaced). Returns false when the fit is not finite (coincident
+/// positions).
+pub(crate) fn on_band(model: &Model, point: &mut Point) -> bool {
+    if point.is_empty() {
+        return true;
+    }
+    let e = model.atoms(&point.tau);
+    let phi = Mat::<c64>::from_fn(model.len(), point.len(), |i, j| e[(i, j)].conj());
+    match solve(phi, |i| model.y[i]) {
+        Some(amp) => {
+            point.amp = amp;
+            true
+        }
+        None => false,
+    }
 }
 
 #[cfg(test)]

@@ -1,31 +1,22 @@
-//! Certificates: the global maximum of `|q|` over the torus in `O(N log N)`, and the
-//! vanishing-derivative pre-certificate of exact TV minimisation.
+//! The peak scan: every local maximum of `|q|` that matters, and the global maximum over the torus, in
+//! `O(N log N)`, for a dual polynomial given by its coefficients on the measured set of a band
+//! ([`crate::kernels::band::Model`]).
 //!
-//! **Global maximum.** `|q|²` is evaluated on an FFT grid of `M` points; every local maximum of the grid
+//! `|q|²` is evaluated on an FFT grid of `M` points; every local maximum of the grid
 //! values that could hide a peak above the current best is polished by Newton steps on
-//! `d|q|²/dt = 0` (as in [`crate::dual::DualPolynomial::polish_maximum`], with `O(|K|)` recurrences for the
-//! derivatives). Which grid maxima can be skipped follows from Bernstein's inequality for a
+//! `d|q|²/dt = 0` ([`polish_maximum`], with `O(|K|)` recurrences for the derivatives). Which grid maxima can be skipped follows from Bernstein's inequality for a
 //! trigonometric polynomial of degree `L` (after centring), `‖q^{(m)}‖∞ ≤ (2πL)^m ‖q‖∞` (Bernstein 1912;
 //! e.g. Zygmund, *Trigonometric Series*, ch. X): with `g = |q|²`, `|g''| ≤ 16π²L²‖q‖²∞`, and a peak `t*`
 //! (`g'(t*) = 0`) lies within `h/2 = 1/(2M)` of a grid point, so that grid point has
 //! `g ≥ g(t*) − 2π²(L/M)²‖q‖²∞`. Grid maxima more than that below the best polished value are
 //! skipped, so only a handful of Newton polishes run, whatever `N`.
-//!
-//! **Pre-certificate.** For exact data, the minimal-norm `c` supported on `K` with `q(τ_j) = sign(a_j)`
-//! and `q'(τ_j) = 0` on the recovered support (`2s` linear equations; the vanishing-derivative
-//! pre-certificate of Duval & Peyré 2015, FoCM 15(5), §4, in the complex form used by
-//! Fernandez-Granda 2016, Inf. Inference 5(3), where the interpolating polynomial has zero derivative
-//! at the support of the centred band). If `|q| ≤ 1` on the whole torus, `c` is dual feasible and
-//! `Re⟨y, c⟩ = Σ_j a_j conj(q(τ_j)) = Σ_j |a_j| = ‖μ‖_TV`, so `μ` is optimal by weak duality.
 
-use super::kernel::Model;
+use super::band::Model;
 use crate::model::wrap_distance;
-use faer::linalg::solvers::Solve;
-use faer::{c64, Mat, Side};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
-/// A polished local maximum of `|q|`.
+/// A polished local maximum of `|q|`: the one peak type of the crate.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct Peak {
     /// Position on `[0, 1)`.
@@ -80,15 +71,23 @@ impl Scan {
 
 /// Newton steps on `g = |q|²` from `t0`, never leaving `[t0 − h, t0 + h]`; returns the visited point
 /// with the largest `|q|` (a lower bound of the local maximum, equal to it once Newton has converged).
-fn polish(model: &Model, c: &[Complex64], t0: f64, h: f64) -> Peak {
+/// `eval(t)` gives `(q, q', q'')` at `t`; `g' = 2 Re(q̄ q')`, `g'' = 2(|q'|² + Re(q̄ q''))`. Steps stop
+/// once they fall below `1e-15/width`, `width` being the largest frequency of `q` (after centring).
+/// The one local-maximum polish of the crate: the scan below and
+/// [`crate::DualPolynomial::polish_maximum`] both use it.
+pub(crate) fn polish_maximum(
+    eval: impl Fn(f64) -> [Complex64; 3],
+    t0: f64,
+    h: f64,
+    width: f64,
+) -> Peak {
     let mut t = t0;
-    let [q, _, _] = model.eval(c, t);
     let mut best = Peak {
         position: t0,
-        modulus: q.norm(),
+        modulus: eval(t0)[0].norm(),
     };
     for _ in 0..40 {
-        let [q, d1, d2] = model.eval(c, t);
+        let [q, d1, d2] = eval(t);
         let m = q.norm();
         if m > best.modulus {
             best = Peak {
@@ -106,12 +105,12 @@ fn polish(model: &Model, c: &[Complex64], t0: f64, h: f64) -> Peak {
             break;
         }
         t += step;
-        if step.abs() * model.half_width.max(1.0) < 1e-15 {
-            let [q, _, _] = model.eval(c, t);
-            if q.norm() > best.modulus {
+        if step.abs() * width.max(1.0) < 1e-15 {
+            let m = eval(t)[0].norm();
+            if m > best.modulus {
                 best = Peak {
                     position: t,
-                    modulus: q.norm(),
+                    modulus: m,
                 };
             }
             break;
@@ -119,6 +118,17 @@ fn polish(model: &Model, c: &[Complex64], t0: f64, h: f64) -> Peak {
     }
     best.position = crate::model::wrap(best.position);
     best
+}
+
+/// [`polish_maximum`] of the polynomial with centred coefficients `c` in `model`'s frame.
+fn polish(model: &Model, c: &[Complex64], t0: f64, h: f64) -> Peak {
+    polish_maximum(|t| model.eval(c, t), t0, h, model.half_width)
+}
+
+/// Indices of the local maxima of `g` on a periodic grid (`g[j] ≥ g[j−1]` and `g[j] > g[j+1]`).
+pub(crate) fn grid_maxima(g: &[f64]) -> impl Iterator<Item = usize> + '_ {
+    let m = g.len();
+    (0..m).filter(move |&j| g[j] >= g[(j + m - 1) % m] && g[j] > g[(j + 1) % m])
 }
 
 /// True when `t` is within `tol` of a point of `sorted` (positions in `[0, 1)`, ascending).
@@ -145,14 +155,7 @@ pub(crate) fn scan_above(model: &Model, c: &[Complex64], support: &[f64], level:
     let vals = model.grid(c);
     let m = vals.len();
     let g: Vec<f64> = vals.iter().map(|v| v.norm_sqr()).collect();
-    let mut cands: Vec<(f64, usize)> = (0..m)
-        .filter(|&j| {
-            let left = g[(j + m - 1) % m];
-            let right = g[(j + 1) % m];
-            g[j] >= left && g[j] > right
-        })
-        .map(|j| (g[j], j))
-        .collect();
+    let mut cands: Vec<(f64, usize)> = grid_maxima(&g).map(|j| (g[j], j)).collect();
     cands.sort_by(|a, b| b.0.total_cmp(&a.0));
     let gmax = cands.first().map_or(0.0, |c| c.0);
     let h = 1.0 / m as f64;
@@ -208,124 +211,6 @@ pub(crate) fn scan_above(model: &Model, c: &[Complex64], support: &[f64], level:
     }
 }
 
-/// The vanishing-derivative pre-certificate (module docs): the minimal-norm `c` on `K` with
-/// `q(τ_j) = signs_j` and `q'(τ_j) = 0` (centred band). `None` when the interpolation system is singular
-/// or its conditions are not met to `1e-9` (coincident or too many support points).
-pub(crate) fn vanishing_derivative(
-    model: &Model,
-    tau: &[f64],
-    signs: &[Complex64],
-) -> Option<Vec<Complex64>> {
-    let zero = vec![Complex64::new(0.0, 0.0); model.len()];
-    interpolate(model, tau, signs, &zero, true)
-}
-
-/// The dual vector `c₀` of a BLASSO solve at small λ, corrected by the smallest change that makes it
-/// interpolate exactly: `min ‖c − c₀‖₂` subject to `q(τ_j) = signs_j` and
-/// `Re(conj(signs_j) q'(τ_j)) = 0` (so that `|q|` is stationary at the support; the imaginary part of
-/// `conj(signs_j) q'(τ_j)` is left free).
-///
-/// As `λ → 0` the BLASSO dual vectors converge to the minimal-norm certificate `η₀` of the exact
-/// problem (Duval & Peyré 2015, FoCM 15(5), §2 — recalled from memory), which can be bounded by 1
-/// when the vanishing-derivative pre-certificate is not; the correction is then small. Whatever its
-/// origin, any `c` with `|q| ≤ 1` that interpolates the signs certifies optimality by the same
-/// weak-duality argument, and that is what is checked.
-pub(crate) fn projected_dual(
-    model: &Model,
-    tau: &[f64],
-    signs: &[Complex64],
-    c0: &[Complex64],
-) -> Option<Vec<Complex64>> {
-    interpolate(model, tau, signs, c0, false)
-}
-
-/// `min ‖c − c₀‖₂` over `c ∈ C^K` subject to real-linear interpolation conditions at `tau`:
-/// `q(τ_j) = signs_j` (two real conditions each) and either `q'(τ_j) = 0` (`full_derivative`, two) or
-/// `Re(conj(signs_j) q'(τ_j)) = 0` (one). Each condition is `Re⟨w_u, c⟩ = b_u` with
-/// `⟨w, c⟩ = Σ_k conj(w_k) c_k`; the solution is `c = c₀ + Σ_u x_u w_u` with `Re(WᴴW) x = b − ℓ(c₀)`
-/// (the real Gram system of the representers `w_u`, derivative rows scaled by `1/(2πL)`), solved by
-/// Cholesky (faer). The conditions are checked on the result.
-fn interpolate(
-    model: &Model,
-    tau: &[f64],
-    signs: &[Complex64],
-    c0: &[Complex64],
-    full_derivative: bool,
-) -> Option<Vec<Complex64>> {
-    let s = tau.len();
-    let m = model.len();
-    let per = if full_derivative { 4 } else { 3 };
-    if s == 0 || per * s > 2 * m {
-        return None;
-    }
-    let e = model.atoms(tau);
-    let l = model.half_width.max(1.0);
-    let i = Complex64::new(0.0, 1.0);
-    // Representers, column u = per·j + r:
-    //   r = 0: Re q(τ_j)                        w_k = conj(E_kj)
-    //   r = 1: Im q(τ_j) = Re(−i q)             w_k = i conj(E_kj)
-    //   r = 2: Re(conj(v) q'(τ_j))/(2πL)        w_k = v (−i k/L) conj(E_kj)  (v = 1 with full_derivative)
-    //   r = 3: Im q'(τ_j)/(2πL) = Re(−i q')/(2πL)  w_k = i (−i k/L) conj(E_kj) = (k/L) conj(E_kj)
-    let n = per * s;
-    let w = Mat::<c64>::from_fn(m, n, |k, u| {
-        let (j, r) = (u / per, u % per);
-        let base = e[(k, j)].conj();
-        let kl = model.kf[k] / l;
-        match r {
-            0 => base,
-            1 => i * base,
-            2 if full_derivative => -i * kl * base,
-            2 => signs[j] * (-i * kl) * base,
-            _ => kl * base,
-        }
-    });
-    let target: Vec<f64> = (0..n)
-        .map(|u| match u % per {
-            0 => signs[u / per].re,
-            1 => signs[u / per].im,
-            _ => 0.0,
-        })
-        .collect();
-    let current: Vec<f64> = (0..n)
-        .map(|u| (0..m).map(|k| (w[(k, u)].conj() * c0[k]).re).sum::<f64>())
-        .collect();
-    let mut gram = Mat::<c64>::zeros(n, n);
-    faer::linalg::matmul::matmul_with_conj(
-        gram.as_mut(),
-        faer::Accum::Replace,
-        w.transpose(),
-        faer::Conj::Yes,
-        w.as_ref(),
-        faer::Conj::No,
-        c64::new(1.0, 0.0),
-        faer::Par::Seq,
-    );
-    let real = Mat::<f64>::from_fn(n, n, |a, b| gram[(a, b)].re);
-    let llt = real.llt(Side::Lower).ok()?;
-    let rhs = Mat::<f64>::from_fn(n, 1, |u, _| target[u] - current[u]);
-    let x = llt.solve(&rhs);
-    let c: Vec<Complex64> = (0..m)
-        .map(|k| c0[k] + (0..n).map(|u| w[(k, u)] * x[(u, 0)]).sum::<Complex64>())
-        .collect();
-    if c.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {
-        return None;
-    }
-    // Check the conditions themselves (the Gram system squares the condition number).
-    for (j, &t) in tau.iter().enumerate() {
-        let [q, d1, _] = model.eval(&c, t);
-        let d1 = d1 / (2.0 * PI * l);
-        let deriv = if full_derivative {
-            d1.norm()
-        } else {
-            (signs[j].conj() * d1).re.abs()
-        };
-        if (q - signs[j]).norm() > 1e-9 || deriv > 1e-9 {
-            return None;
-        }
-    }
-    Some(c)
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -375,25 +260,5 @@ mod tests {
             .map(|x| ((n * PI * x).sin() / (n * (PI * x).sin())).abs())
             .fold(0.0, f64::max);
         assert!((sc.max_off_support() - sidelobe).abs() < 1e-9);
-    }
-
-    /// The pre-certificate interpolates signs with zero derivative; well-separated spikes give
-    /// `|q| < 1` off the support (Candès & Fernandez-Granda 2014, CPAM 67(6), Thm. 1.2 regime).
-    #[test]
-    fn pre_certificate_interpolates_and_is_bounded_for_separated_spikes() {
-        let m = model(30);
-        let tau = [0.1, 0.35, 0.6];
-        let signs = [
-            Complex64::new(1.0, 0.0),
-            Complex64::from_polar(1.0, 2.0),
-            Complex64::from_polar(1.0, -1.0),
-        ];
-        let c = vanishing_derivative(&m, &tau, &signs).unwrap();
-        let sc = scan(&m, &c, &tau);
-        assert!(sc.max_modulus <= 1.0 + 1e-12, "{sc:?}");
-        assert!(sc.max_off_support() < 0.99);
-        for (v, s) in sc.on_support.iter().zip(&signs) {
-            assert!((v - s).norm() < 1e-12);
-        }
     }
 }

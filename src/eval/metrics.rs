@@ -224,7 +224,7 @@ impl MatchSettings {
 ///
 /// # Examples
 /// ```
-/// use finespike::metrics::score;
+/// use finespike::eval::metrics::score;
 /// use finespike::Spikes;
 /// use num_complex::Complex64;
 /// let one = Complex64::new(1.0, 0.0);
