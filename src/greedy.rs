@@ -27,7 +27,7 @@ use crate::kernels::lstsq::on_band as least_squares;
 use crate::kernels::peaks::scan;
 use crate::kernels::refine::{refine, RefineSettings};
 use crate::kernels::slide::{slide, Point};
-use crate::kernels::EXACT_STOP;
+use crate::kernels::{noise_ball_radius, EXACT_STOP};
 use crate::model::{wrap, Measurements};
 use crate::noise::resolve_noise as resolve_sigma;
 use std::time::Instant;
@@ -206,7 +206,7 @@ impl Estimator for Greedy {
         let m = model.len() as f64;
         // Stopping level of ‖r‖ in normalised units.
         let target = match sigma {
-            Some(s) => s * (m + 2.0 * m.sqrt()).sqrt() / model.scale,
+            Some(s) => noise_ball_radius(s, model.len()) / model.scale,
             None if self.count.is_some() => 0.0,
             None => EXACT_STOP,
         };

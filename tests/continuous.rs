@@ -637,3 +637,22 @@ fn automatic_backend_falls_back_when_not_certified() {
     let auto = Tv::exact().estimate(&s.data).unwrap();
     assert_eq!(auto.diagnostics.solver, Some(INTERIOR_POINT));
 }
+
+/// The interior point refuses a band past its memory limit at once, naming the sliding solver; the
+/// same data solve with the sliding backend. (Invented scene: 3 spikes at fc = 128.)
+#[test]
+fn interior_point_refuses_long_bands_before_allocating() {
+    let sample = Scenario::new(128, 3)
+        .with_separation(2.0)
+        .with_seed(5)
+        .generate()
+        .unwrap();
+    let forced = Tv::exact().with_settings(interior());
+    match forced.estimate(&sample.data) {
+        Err(finespike::Error::TooLarge { advice, .. }) => assert!(advice.contains("sliding")),
+        other => panic!("expected TooLarge, got {other:?}"),
+    }
+    let est = Tv::exact().estimate(&sample.data).unwrap();
+    assert_eq!(est.status, Status::Solved);
+    assert_eq!(est.spikes.len(), 3);
+}

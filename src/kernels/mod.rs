@@ -17,6 +17,15 @@
 /// greedy methods stop (`grid`, `greedy`): rounding of a well-conditioned fit is far below it.
 pub(crate) const EXACT_STOP: f64 = 1e-10;
 
+/// Radius `δ = σ √(m + 2√m)` of the data-fit ball for `m` complex measurements with noise of level
+/// `σ`: the mean of `‖n‖²` plus two standard deviations, since `2‖n‖²/σ²` is χ² with `2m` degrees of
+/// freedom (a χ² bound, common practice). The constrained TV problem and `greedy`'s stopping rule use
+/// it.
+pub(crate) fn noise_ball_radius(sigma: f64, m: usize) -> f64 {
+    let m = m as f64;
+    sigma * (m + 2.0 * m.sqrt()).sqrt()
+}
+
 pub(crate) mod band;
 pub(crate) mod hankel;
 pub(crate) mod lstsq;

@@ -61,10 +61,7 @@ impl Tv {
 
     /// Radius `δ = σ √(|K| + 2√|K|)` of the data-fit ball for `|K| = m` measurements.
     pub fn delta(sigma: f64, m: usize) -> f64 {
-        match Problem::for_noise(Some(sigma), m) {
-            Problem::Constrained { delta } => delta,
-            _ => unreachable!("a noise level gives the constrained problem"),
-        }
+        crate::kernels::noise_ball_radius(sigma, m)
     }
 }
 

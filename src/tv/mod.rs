@@ -106,12 +106,9 @@ impl Problem {
     pub fn for_noise(sigma: Option<f64>, m: usize) -> Self {
         match sigma {
             None => Problem::Exact,
-            Some(s) => {
-                let m = m as f64;
-                Problem::Constrained {
-                    delta: s * (m + 2.0 * m.sqrt()).sqrt(),
-                }
-            }
+            Some(s) => Problem::Constrained {
+                delta: crate::kernels::noise_ball_radius(s, m),
+            },
         }
     }
 }

@@ -8,7 +8,7 @@ pub(crate) mod compact;
 use super::settings::TvSettings;
 use super::{relative_gap, Certifier, ConvexSolution, Problem};
 use crate::dual::DualPolynomial;
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::model::Measurements;
 use clarabel_adapter::IpmSettings;
 use compact::{ConicProgram, Formulation};
@@ -16,6 +16,18 @@ use num_complex::Complex64;
 
 /// [`crate::Diagnostics::solver`] of an estimate made by the interior point.
 pub const INTERIOR_POINT: &str = "interior point (clarabel, compact SDP)";
+
+/// Longest band (`N = kmax − kmin + 1` coefficients) the interior point accepts: `fc = 64`. Its memory
+/// grows like `N^3.3` and its time like `N^4`–`N^5` (measured on a 2-core machine,
+/// `examples/large_scale.rs`: 271 MB and 4.6 s at `N = 65`), so `N = 129` needs about 2.6 GB and
+/// minutes, and `N = 257` about 25 GB. Longer bands are refused before anything is allocated.
+pub const MAX_BAND_LEN: usize = 129;
+
+/// Memory the interior point is expected to need for a band of `n` coefficients, in MB (the power
+/// law of [`MAX_BAND_LEN`], fitted to the measurements at `N = 17…65`).
+fn expected_memory_mb(n: usize) -> f64 {
+    271.0 * (n as f64 / 65.0).powf(3.3)
+}
 
 /// Assemble and solve the dual SDP of `problem`; the support candidates are the maxima of `|q|` at
 /// `|q| ≥ 1 − support_tolerance`, found once on the FFT grid together with every other local maximum
@@ -26,6 +38,18 @@ pub(crate) fn solve_convex(
     settings: &TvSettings,
 ) -> Result<ConvexSolution> {
     let n = data.band_len();
+    if n > MAX_BAND_LEN {
+        return Err(Error::TooLarge {
+            method: "interior point",
+            what: format!("the semidefinite program of a band of {n} coefficients"),
+            needed: format!("about {:.0} MB", expected_memory_mb(n)),
+            limit: format!("a band of {MAX_BAND_LEN} coefficients (about 2.6 GB)"),
+            advice: "use the certified sliding solver (Backend::SlidingFrankWolfe, `--solver \
+                     sliding`, or method 'sfw'), which solves the same problem in memory \
+                     proportional to the band"
+                .into(),
+        });
+    }
     let mut shifted: Vec<Option<Complex64>> = vec![None; n];
     for (&k, &v) in data.indices().iter().zip(data.values()) {
         shifted[(k - data.kmin()) as usize] = Some(v);
