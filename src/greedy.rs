@@ -34,6 +34,7 @@ use std::time::Instant;
 
 /// Settings of the greedy fit; the defaults work for the demo and test problems.
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
 pub struct GreedySettings {
     /// Limit on added spikes (iterations), default 500.
     pub max_iter: usize,
@@ -118,6 +119,19 @@ impl GreedySettings {
         self.refine = refine;
         self
     }
+
+    /// Every setting checked (fields can be written directly); [`Greedy::estimate`] calls this.
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] naming the first setting out of range.
+    pub fn validated(self) -> Result<Self> {
+        Ok(Self::default()
+            .with_max_iter(self.max_iter)?
+            .with_grid_oversample(self.grid_oversample)?
+            .with_floor_sigmas(self.floor_sigmas)?
+            .with_merge_distance_fc(self.merge_distance_fc)?
+            .with_refine(self.refine.validated()?))
+    }
 }
 
 /// The greedy continuous fit (method name `greedy`; module docs).
@@ -197,12 +211,13 @@ impl Estimator for Greedy {
 
     fn estimate(&self, data: &Measurements) -> Result<Estimate> {
         let start = Instant::now();
+        let settings = self.settings.validated()?;
         // With a requested count and no noise level, the count alone stops the fit.
         let (sigma, estimated) = match (self.count, self.noise) {
             (Some(_), NoiseLevel::Estimate) => (None, false),
             (_, noise) => resolve_sigma(data, noise)?,
         };
-        let model = Model::new(data, self.settings.grid_oversample.max(8))?;
+        let model = Model::new(data, settings.grid_oversample.max(8))?;
         let m = model.len() as f64;
         // Stopping level of ‖r‖ in normalised units.
         let target = match sigma {
@@ -210,8 +225,8 @@ impl Estimator for Greedy {
             None if self.count.is_some() => 0.0,
             None => EXACT_STOP,
         };
-        let floor_abs = sigma.map(|s| self.settings.floor_sigmas * s / m.sqrt() / model.scale);
-        let merge_tol = self.settings.merge_distance_fc / data.fc();
+        let floor_abs = sigma.map(|s| settings.floor_sigmas * s / m.sqrt() / model.scale);
+        let merge_tol = settings.merge_distance_fc / data.fc();
         // 3s real unknowns must not exceed the 2|K| real equations.
         let max_spikes = (2 * model.len() / 3).max(1);
         let mut point = Point::default();
@@ -222,7 +237,7 @@ impl Estimator for Greedy {
             if rn <= target || counted || model.zero_data {
                 break Stop::Rule;
             }
-            if iterations >= self.settings.max_iter || point.len() >= max_spikes {
+            if iterations >= settings.max_iter || point.len() >= max_spikes {
                 break Stop::Limit;
             }
             iterations += 1;
@@ -264,7 +279,7 @@ impl Estimator for Greedy {
             *t = wrap(*t);
         }
         let spikes = model.spikes(&point.tau, &point.amp)?;
-        let spikes = refine(data, &spikes, self.settings.refine)?.spikes;
+        let spikes = refine(data, &spikes, settings.refine)?.spikes;
         let status = match stop {
             Stop::Rule => Status::Solved,
             Stop::Limit => Status::IterationLimit,

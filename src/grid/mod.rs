@@ -138,7 +138,7 @@ pub use operator::GridOperator;
 pub use settings::GridSettings;
 
 use crate::error::Result;
-use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status, Warning};
+use crate::estimator::{Diagnostics, Estimate, Estimator, NoiseLevel, Status};
 use crate::kernels::EXACT_STOP;
 use crate::model::{wrap_distance, Measurements, Spikes};
 use crate::noise::resolve_noise as resolve_sigma;
@@ -283,14 +283,14 @@ impl Estimator for GridL1 {
             }
             spikes = next;
         }
-        let mut diagnostics = Diagnostics::describe(data, &spikes);
-        if !status.is_usable() {
-            diagnostics.warnings.push(Warning::NotConverged { status });
+        let mut builder = Diagnostics::builder(data, &spikes)
+            .status(status)
+            .iterations(iterations)
+            .objective(objective.unwrap_or(0.0));
+        if let Some(g) = worst_gap {
+            builder = builder.duality_gap(g);
         }
-        diagnostics.iterations = iterations;
-        diagnostics.objective = objective.or(Some(0.0));
-        diagnostics.duality_gap = worst_gap;
-        diagnostics.assess_noise(data, &spikes, sigma, estimated);
+        let mut diagnostics = builder.noise(sigma, estimated);
         diagnostics.solve_seconds = start.elapsed().as_secs_f64();
         Ok(Estimate {
             method: self.name(),
