@@ -1,10 +1,14 @@
 //! `compare`: several estimators on one file, or on a sweep of invented scenes, in one table.
 
+use crate::recover::warnings;
+use crate::show::{self, exact, num};
 use crate::simulate::{scene_error, SceneArgs};
-use crate::{input, noise_level, shown, DomainArg, Failure, ReportFormat, SolverArg};
+use crate::{
+    input, noise_level, requested_noise, shown, DomainArg, Failure, ReportFormat, SolverArg,
+};
 use clap::{ArgGroup, Args, ValueEnum};
 use finespike::sweep::{self, configure, takes_order, MethodOptions, Outcome, Summary, Tally};
-use finespike::{crb_for, Error, Estimate, Estimator, NoiseLevel, METHODS};
+use finespike::{crb_for, Error, Estimate, Estimator, NoiseLevel, METHODS, PROVEN_SEPARATION_FC};
 use indicatif::{ProgressBar, ProgressStyle};
 use serde_json::json;
 use std::io::IsTerminal;
@@ -42,7 +46,7 @@ pub struct CompareArgs {
     truth: Option<PathBuf>,
     /// With --input: noise standard deviation σ given to the methods that use one (0 = exact data;
     /// omitted: estimated). Also sets σ for the Cramér–Rao column (otherwise the truth file's sigma).
-    #[arg(long, requires = "input")]
+    #[arg(long, requires = "input", allow_negative_numbers = true)]
     sigma: Option<f64>,
     /// Model order for the methods that take one (the subspace methods and greedy); the others
     /// choose their own and a note says so.
@@ -51,8 +55,8 @@ pub struct CompareArgs {
     /// Solver of the convex problem for sdp and ast (see `recover --help`).
     #[arg(long, value_enum, default_value_t = SolverArg::Auto)]
     solver: SolverArg,
-    /// Cutoff fc: of the band of --input (default: the largest |k|), or of the invented scenes
-    /// (default 16).
+    /// Cutoff fc: of the band of a Fourier --input file (default: the largest |k|; refused with a
+    /// time-sample file), or of the invented scenes (default 16).
     #[arg(long)]
     fc: Option<usize>,
     /// Fourier coefficients or time samples: checked against the header of --input; the kind of
@@ -245,7 +249,12 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             let v = json!({
                 "mode": "sweep",
                 "scene": {
-                    "fc": a.samples.map_or(fc as f64, |n| (n as f64 - 1.0) / 2.0),
+                    "fc": match a.samples {
+                        // fc = (N − 1)/2: an integer for odd N, a half-integer for even N.
+                        Some(n) if n % 2 == 0 => json!((n as f64 - 1.0) / 2.0),
+                        Some(n) => json!((n - 1) / 2),
+                        None => json!(fc),
+                    },
                     "samples": a.samples,
                     "domain": match (a.samples, domain) {
                         (None, DomainArg::Fourier) => "fourier",
@@ -264,7 +273,7 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             });
             pretty(&v)
         }
-        ReportFormat::Csv => sweep::to_csv(&summaries),
+        ReportFormat::Csv => summaries_csv(&summaries),
         ReportFormat::Text => {
             let mut out = format!(
                 "{trials} invented scenes (seeds {}..={}): {} spikes, closest pair {}/fc, {band}, {}, \
@@ -272,9 +281,9 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
                 s.seed,
                 s.seed.wrapping_add(trials as u64 - 1),
                 s.count,
-                s.separation,
+                num(s.separation),
                 match s.snr {
-                    Some(snr) => format!("SNR {snr} dB (weakest spike)"),
+                    Some(snr) => format!("SNR {} dB (weakest spike)", num(snr)),
                     None => "exact data".to_string(),
                 },
                 s.amplitudes
@@ -297,17 +306,20 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             ));
             out.push_str(&sweep::table(&summaries));
             out.push_str(&legend(s.snr.is_some()));
+            // The scenes' own separation (the truth, before any estimate) against the Rayleigh limit
+            // 1/fc and the library's proven threshold.
             if s.separation < 1.0 {
                 out.push_str(&format!(
                     "\nUNDER-RESOLVED: the closest pair is {}/fc apart, below the Rayleigh limit 1/fc; \
                      no recovery guarantee covers these scenes and failures are expected.\n",
-                    s.separation
+                    num(s.separation)
                 ));
-            } else if s.separation < 1.26 {
+            } else if s.separation < PROVEN_SEPARATION_FC {
                 out.push_str(&format!(
                     "\nNote: the closest pair is {}/fc apart, below the proven exact-recovery threshold \
-                     1.26/fc for TV minimisation.\n",
-                    s.separation
+                     {}/fc for TV minimisation.\n",
+                    num(s.separation),
+                    num(PROVEN_SEPARATION_FC)
                 ));
             }
             out
@@ -315,6 +327,36 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
     };
     print!("{text}");
     every_run_failed(summaries.iter().all(|s| s.errors == s.trials))
+}
+
+/// The summaries as CSV, one row per method: the columns of the text table, every figure in full
+/// ([`exact`]) and an empty cell where a figure does not exist.
+fn summaries_csv(summaries: &[Summary]) -> String {
+    let mut out = String::from(
+        "method,trials,true_spikes,found,missed,spurious,complete,rmse_fc,max_error_fc,rmse_over_crb,\
+         median_seconds,errors,not_converged,warned\n",
+    );
+    let cell = |v: Option<f64>| v.map_or_else(String::new, exact);
+    for s in summaries {
+        out.push_str(&format!(
+            "{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n",
+            s.method,
+            s.trials,
+            s.true_spikes,
+            s.found,
+            s.missed,
+            s.spurious,
+            s.complete,
+            cell(s.rmse_fc),
+            cell(s.max_error_fc),
+            cell(s.rmse_over_crb),
+            exact(s.median_seconds),
+            s.errors,
+            s.not_converged,
+            s.warned
+        ));
+    }
+    out
 }
 
 fn legend(noisy: bool) -> String {
@@ -345,15 +387,12 @@ fn pretty(v: &serde_json::Value) -> String {
 }
 
 fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result<(), Failure> {
-    let data = input::load_samples(&path, a.fc, a.domain).map_err(Failure::Input)?;
+    let noise = requested_noise(a.sigma)?;
+    let data = input::load_samples(&path, a.fc, a.domain)?;
     let truth = match &a.truth {
         Some(t) => Some(input::load_spikes(t).map_err(Failure::Input)?),
         None => None,
     };
-    let noise = noise_level(a.sigma);
-    noise
-        .validated()
-        .map_err(|e: Error| Failure::Usage(e.to_string()))?;
     let Some(truth) = truth else {
         return file_without_truth(a, &path, &data, methods, noise);
     };
@@ -379,14 +418,13 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
             "crb_sigma": crb_sigma,
             "methods": rows.iter().map(|(s, o)| json!({"summary": s, "outcome": o})).collect::<Vec<_>>(),
         })),
-        ReportFormat::Csv => sweep::to_csv(&summaries),
+        ReportFormat::Csv => summaries_csv(&summaries),
         ReportFormat::Text => {
             let sep = truth.spikes.min_separation() * data.fc();
             let mut out = format!(
-                "{} ({} samples, fc = {}) against {} ({} spikes{}); σ for the bound: {}\n\n",
+                "{} ({}) against {} ({} spikes{}); σ for the bound: {}\n\n",
                 shown(&path),
-                data.len(),
-                data.fc(),
+                show::band(&data),
                 a.truth.as_deref().map_or_else(String::new, shown),
                 truth.spikes.len(),
                 if sep.is_finite() {
@@ -394,10 +432,7 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
                 } else {
                     String::new()
                 },
-                crb_sigma.map_or_else(
-                    || "none (exact data or unknown)".to_string(),
-                    |s| format!("{s:.4e}")
-                )
+                crb_sigma.map_or_else(|| "none (exact data or unknown)".to_string(), num)
             );
             out.push_str(&sweep::table(&summaries));
             out.push('\n');
@@ -456,16 +491,16 @@ fn file_without_truth(
             for (m, r, s) in &results {
                 match r {
                     Ok(e) => out.push_str(&format!(
-                        "{m},{},{},{},{:e},{s:e},\n",
+                        "{m},{},{},{},{},{},\n",
                         e.status,
                         e.spikes.len(),
-                        e.diagnostics
-                            .separation_fc
-                            .map_or_else(String::new, |x| format!("{x:e}")),
-                        e.diagnostics.residual_norm
+                        e.diagnostics.separation_fc.map_or_else(String::new, exact),
+                        exact(e.diagnostics.residual_norm),
+                        exact(*s)
                     )),
                     Err(e) => out.push_str(&format!(
-                        "{m},,,,,{s:e},\"{}\"\n",
+                        "{m},,,,,{},\"{}\"\n",
+                        exact(*s),
                         e.to_string().replace('"', "'")
                     )),
                 }
@@ -474,10 +509,9 @@ fn file_without_truth(
         }
         ReportFormat::Text => {
             let mut out = format!(
-                "{} ({} samples, fc = {}); no truth given: each method's own figures\n\n",
+                "{} ({}); no truth given: each method's own figures\n\n",
                 shown(path),
-                data.len(),
-                data.fc()
+                show::band(data)
             );
             out.push_str(&format!(
                 "{:<8} {:>18} {:>6} {:>10} {:>11} {:>9}\n",
@@ -487,13 +521,13 @@ fn file_without_truth(
             for (m, r, s) in &results {
                 match r {
                     Ok(e) => out.push_str(&format!(
-                        "{m:<8} {:>18} {:>6} {:>10} {:>11.3e} {s:>9.4}\n",
+                        "{m:<8} {:>18} {:>6} {:>10} {:>11} {s:>9.4}\n",
                         e.status.to_string(),
                         e.spikes.len(),
                         e.diagnostics
                             .separation_fc
                             .map_or_else(|| "-".to_string(), |x| format!("{x:.3}")),
-                        e.diagnostics.residual_norm
+                        num(e.diagnostics.residual_norm)
                     )),
                     Err(_) => out.push_str(&format!(
                         "{m:<8} {:>18} {:>6} {:>10} {:>11} {s:>9.4}\n",
@@ -511,7 +545,7 @@ fn file_without_truth(
                             .map(|s| format!("{:.6}", s.position))
                             .collect();
                         out.push_str(&format!("{m}: positions {}\n", pos.join(" ")));
-                        for w in &e.diagnostics.warnings {
+                        for w in warnings(e) {
                             out.push_str(&format!("  warning: {w}\n"));
                         }
                     }

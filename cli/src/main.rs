@@ -18,6 +18,7 @@ mod compare;
 mod input;
 mod plot;
 mod recover;
+mod show;
 mod simulate;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
@@ -127,7 +128,7 @@ struct MethodArgs {
     method: String,
     /// Noise standard deviation σ (E|n_k|² = σ²) for the methods that use one; 0 means exact data;
     /// omitted: estimated from the data.
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     sigma: Option<f64>,
     /// Model order (number of spikes), for the methods that take one: the subspace methods and
     /// greedy (any other method refuses it); omitted: the method decides (MDL, or the residual).
@@ -218,11 +219,25 @@ fn noise_level(sigma: Option<f64>) -> NoiseLevel {
     }
 }
 
-/// Build the estimator of `args`; an invalid setting or an option the method does not take is a
-/// command-line error. Notes about ignored options go to stderr.
-fn configure(args: &MethodArgs) -> Result<Box<dyn finespike::Estimator>, Failure> {
+/// The noise level asked for with `--sigma`, checked once with the library's noise-level rule
+/// ([`NoiseLevel::validated`]): a negative or non-finite σ is a command-line error.
+fn requested_noise(sigma: Option<f64>) -> Result<NoiseLevel, Failure> {
+    noise_level(sigma).validated().map_err(|e| match e {
+        Error::InvalidSetting { value, rule, .. } => {
+            Failure::Usage(format!("--sigma {value}: {rule}"))
+        }
+        other => Failure::Usage(format!("--sigma: {other}")),
+    })
+}
+
+/// Build the estimator of `args` with the requested noise level `noise`; an invalid setting or an
+/// option the method does not take is a command-line error. Notes about ignored options go to stderr.
+fn configure(
+    args: &MethodArgs,
+    noise: NoiseLevel,
+) -> Result<Box<dyn finespike::Estimator>, Failure> {
     let options = finespike::sweep::MethodOptions {
-        noise: noise_level(args.sigma),
+        noise,
         order: args.order,
         backend: args.solver.backend(),
     };
@@ -290,5 +305,9 @@ mod tests {
         assert_eq!(noise_level(None), NoiseLevel::Estimate);
         assert_eq!(noise_level(Some(0.0)), NoiseLevel::Exact);
         assert_eq!(noise_level(Some(0.5)), NoiseLevel::Known(0.5));
+        assert!(requested_noise(Some(0.5)).is_ok());
+        for bad in [-1.0, f64::NAN, f64::INFINITY] {
+            assert!(matches!(requested_noise(Some(bad)), Err(Failure::Usage(_))));
+        }
     }
 }

@@ -1,10 +1,11 @@
 //! `recover`: one estimator on one sample file; the result on stdout, a readable summary on stderr.
 
-use crate::{configure, input, noise_level, Failure, Format, MethodArgs};
+use crate::show::{num, sig};
+use crate::{configure, input, requested_noise, Failure, Format, MethodArgs};
 use clap::Args;
 use finespike::io;
 use finespike::sweep::takes_noise_level;
-use finespike::{Estimate, NoiseLevel};
+use finespike::{Estimate, NoiseLevel, Warning, PROVEN_SEPARATION_FC};
 
 /// Recover spikes from a sample file with one method.
 ///
@@ -29,17 +30,14 @@ pub struct RecoverArgs {
 }
 
 pub fn run(a: RecoverArgs) -> Result<(), Failure> {
-    let data = a.samples.load().map_err(Failure::Input)?;
-    let estimator = configure(&a.method)?;
+    let noise = requested_noise(a.method.sigma)?;
+    let data = a.samples.load()?;
+    let estimator = configure(&a.method, noise)?;
     let estimate = estimator.estimate(&data).map_err(Failure::Estimate)?;
     if !a.quiet {
         eprint!(
             "{}",
-            summary(
-                &estimate,
-                takes_noise_level(&a.method.method),
-                noise_level(a.method.sigma)
-            )
+            summary(&estimate, takes_noise_level(&a.method.method), noise)
         );
     }
     report_warnings(&estimate);
@@ -51,25 +49,51 @@ pub fn run(a: RecoverArgs) -> Result<(), Failure> {
     Ok(())
 }
 
+/// The warnings of an estimate, in plain words: the library's [`Warning`]s, and a non-converged
+/// solver status when no warning already says so (non-convergence is reported once).
+pub fn warnings(estimate: &Estimate) -> Vec<String> {
+    let said = estimate
+        .diagnostics
+        .warnings
+        .iter()
+        .any(|w| matches!(w, Warning::NotConverged { .. }));
+    let mut out = Vec::new();
+    if !estimate.status.is_usable() && !said {
+        out.push(format!(
+            "the solver stopped with status '{}': the result is not a converged solution",
+            estimate.status
+        ));
+    }
+    out.extend(estimate.diagnostics.warnings.iter().map(|w| w.to_string()));
+    out
+}
+
 /// Every warning of an estimate on stderr, one per line.
 pub fn report_warnings(estimate: &Estimate) {
-    if !estimate.status.is_usable() {
-        eprintln!(
-            "warning: solver status '{}': the result is not a converged solution",
-            estimate.status
-        );
-    }
-    for w in &estimate.diagnostics.warnings {
+    for w in warnings(estimate) {
         eprintln!("warning: {w}");
     }
 }
 
-fn list(values: &[f64], digits: usize) -> String {
+fn list(values: &[f64]) -> String {
     values
         .iter()
-        .map(|v| format!("{v:.digits$}"))
+        .map(|v| num(*v))
         .collect::<Vec<_>>()
         .join(", ")
+}
+
+/// The separation verdict the estimate carries: the library's separation warnings, not a re-derived
+/// threshold.
+fn separation_verdict(estimate: &Estimate) -> &'static str {
+    let warned = |pick: fn(&Warning) -> bool| estimate.diagnostics.warnings.iter().any(pick);
+    if warned(|w| matches!(w, Warning::BelowRayleigh { .. })) {
+        ", Rayleigh limit 1/fc: UNDER-RESOLVED"
+    } else if warned(|w| matches!(w, Warning::BelowProvenSeparation { .. })) {
+        ": below it"
+    } else {
+        ""
+    }
 }
 
 /// The readable summary of an estimate's diagnostics (several lines, each ending in a newline).
@@ -81,14 +105,16 @@ pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> 
         n => format!("after {n} iterations"),
     };
     if let Some(gap) = d.duality_gap {
-        steps = format!("{steps}, relative duality gap {gap:.1e}");
+        steps = format!("{steps}, relative duality gap {}", sig(gap, 2));
     }
     if let Some(solver) = d.solver {
         steps = format!("{solver}, {steps}");
     }
     let mut out = format!(
-        "{}: {} ({steps}) in {:.3} s\n",
-        estimate.method, estimate.status, d.solve_seconds
+        "{}: {} ({steps}) in {} s\n",
+        estimate.method,
+        estimate.status,
+        sig(d.solve_seconds, 3)
     );
     let row = |out: &mut String, label: &str, text: String| {
         out.push_str(&format!("  {label:<12} {text}\n"));
@@ -108,7 +134,8 @@ pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> 
             }
         ),
         (Some(s), true) => format!(
-            "σ = {s:.4e} ({})",
+            "σ = {} ({})",
+            num(s),
             if d.sigma_estimated {
                 "estimated from the data"
             } else {
@@ -121,21 +148,17 @@ pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> 
     let spikes = match d.separation_fc {
         Some(s) => format!(
             "{n} recovered; closest pair {s:.3}/fc apart (Rayleigh units; proven exact-recovery \
-             threshold 1.26/fc{})",
-            if s < 1.0 {
-                ", Rayleigh limit 1/fc: UNDER-RESOLVED"
-            } else if s < 1.26 {
-                ": below it"
-            } else {
-                ""
-            }
+             threshold {}/fc{})",
+            num(PROVEN_SEPARATION_FC),
+            separation_verdict(estimate)
         ),
         None => format!("{n} recovered"),
     };
     row(&mut out, "spikes", spikes);
     let mut residual = format!(
-        "‖y − Fμ̂‖ = {:.4e} against ‖y‖ = {:.4e}",
-        d.residual_norm, d.data_norm
+        "‖y − Fμ̂‖ = {} against ‖y‖ = {}",
+        num(d.residual_norm),
+        num(d.data_norm)
     );
     if let Some(r) = d.residual_ratio {
         residual.push_str(&format!("; {r:.2}× what the noise explains (≈ 1 expected)"));
@@ -168,7 +191,7 @@ pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> 
             "position CRB",
             format!(
                 "one std per spike, in 1/fc: {} (plug-in bound, estimates taken as truth)",
-                list(stds, 4)
+                list(stds)
             ),
         );
     }
