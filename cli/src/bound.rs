@@ -25,7 +25,7 @@ pub struct BoundArgs {
     #[arg(long)]
     data: Option<PathBuf>,
     /// Noise standard deviation σ, E|n_k|² = σ² (default: the truth file's sigma; must be > 0).
-    #[arg(long, allow_negative_numbers = true)]
+    #[arg(long, allow_hyphen_values = true)]
     sigma: Option<f64>,
     /// Cutoff fc of the band -fc..fc (default: the truth file's fc).
     #[arg(long)]

@@ -46,7 +46,7 @@ pub struct CompareArgs {
     truth: Option<PathBuf>,
     /// With --input: noise standard deviation σ given to the methods that use one (0 = exact data;
     /// omitted: estimated). Also sets σ for the Cramér–Rao column (otherwise the truth file's sigma).
-    #[arg(long, requires = "input", allow_negative_numbers = true)]
+    #[arg(long, requires = "input", allow_hyphen_values = true)]
     sigma: Option<f64>,
     /// Model order for the methods that take one (the subspace methods and greedy); the others
     /// choose their own and a note says so.

@@ -128,7 +128,7 @@ struct MethodArgs {
     method: String,
     /// Noise standard deviation σ (E|n_k|² = σ²) for the methods that use one; 0 means exact data;
     /// omitted: estimated from the data.
-    #[arg(long, allow_negative_numbers = true)]
+    #[arg(long, allow_hyphen_values = true)]
     sigma: Option<f64>,
     /// Model order (number of spikes), for the methods that take one: the subspace methods and
     /// greedy (any other method refuses it); omitted: the method decides (MDL, or the residual).

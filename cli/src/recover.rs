@@ -197,3 +197,66 @@ pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> 
     }
     out
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use finespike::{Diagnostics, Measurements, Spike, Spikes, Status};
+    use num_complex::Complex64;
+
+    /// An estimate of two spikes 1.1/fc apart at fc = 8 (an invented scene), with `status` and the
+    /// warnings `warnings` (the library's verdicts) in place of the ones `describe` derives.
+    fn estimate(status: Status, warnings: Vec<Warning>) -> Estimate {
+        let k: Vec<i64> = (-8..=8).collect();
+        let y = vec![Complex64::new(1.0, 0.0); k.len()];
+        let data = Measurements::in_band(-8, 8, &k, &y, finespike::Domain::Fourier).unwrap();
+        let spikes = Spikes::new(vec![
+            Spike::new(0.2, Complex64::new(1.0, 0.0)),
+            Spike::new(0.2 + 1.1 / 8.0, Complex64::new(1.0, 0.0)),
+        ])
+        .unwrap();
+        let mut diagnostics = Diagnostics::describe(&data, &spikes);
+        diagnostics.warnings = warnings;
+        Estimate {
+            method: "sdp",
+            spikes,
+            status,
+            diagnostics,
+            dual: None,
+        }
+    }
+
+    #[test]
+    fn non_convergence_is_said_once() {
+        let status = Status::IterationLimit;
+        // The library already warns: the command line adds nothing.
+        let e = estimate(status, vec![Warning::NotConverged { status }]);
+        let said: Vec<String> = warnings(&e);
+        assert_eq!(said.len(), 1, "{said:?}");
+        assert_eq!(said[0], Warning::NotConverged { status }.to_string());
+        // The library does not: the command line says it, once.
+        let said = warnings(&estimate(status, vec![]));
+        assert_eq!(said.len(), 1, "{said:?}");
+        assert!(said[0].contains("not a converged solution"));
+        // A converged estimate: nothing to say.
+        assert!(warnings(&estimate(Status::Solved, vec![])).is_empty());
+    }
+
+    #[test]
+    fn the_separation_verdict_is_the_librarys() {
+        let line = |w: Vec<Warning>| {
+            summary(&estimate(Status::Solved, w), true, NoiseLevel::Estimate)
+                .lines()
+                .find(|l| l.contains("closest pair"))
+                .unwrap()
+                .to_string()
+        };
+        let below = line(vec![Warning::BelowProvenSeparation { separation_fc: 1.1 }]);
+        assert!(below.ends_with("threshold 1.26/fc: below it)"), "{below}");
+        let under = line(vec![Warning::BelowRayleigh { separation_fc: 1.1 }]);
+        assert!(under.contains("UNDER-RESOLVED"), "{under}");
+        // Without a separation warning from the library the summary adds no verdict of its own.
+        let none = line(vec![]);
+        assert!(none.ends_with("threshold 1.26/fc)"), "{none}");
+    }
+}

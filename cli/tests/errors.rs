@@ -298,3 +298,94 @@ fn help_is_complete() {
         }
     }
 }
+
+#[test]
+fn negative_sigma_is_a_value_refused_by_the_noise_level_rule() {
+    // `--sigma -1` reaches the noise-level rule (NoiseLevel::validated) instead of being taken for an
+    // unknown flag, in every subcommand that takes a σ; exit 2 either way.
+    let dir = tmpdir("negsigma");
+    let data = case("nz_fc08_snr30");
+    let truth = write(
+        &dir,
+        "t.json",
+        "{\"fc\": 8, \"sigma\": 0.1, \"spikes\": [{\"position\": 0.1, \"amplitude\": [1, 0]}]}",
+    );
+    let svg = dir.join("x.svg");
+    for value in ["-1", "-0.5", "-1e-3"] {
+        for args in [
+            vec!["recover", "-i", s(&data), "--sigma", value],
+            vec!["plot", "-i", s(&data), "-o", s(&svg), "--sigma", value],
+            vec![
+                "compare",
+                "-i",
+                s(&data),
+                "--methods",
+                "esprit",
+                "--sigma",
+                value,
+            ],
+            vec!["bound", "-t", s(&truth), "--sigma", value],
+        ] {
+            let out = run(&args);
+            assert_exit(&out, 2, &format!("{args:?}"));
+            let err = stderr(&out);
+            assert!(
+                err.contains(&format!(
+                    "--sigma {value}: the noise level must be finite and non-negative"
+                )) || err.contains(&format!(
+                    "--sigma {}: the noise level must be finite and non-negative",
+                    value.parse::<f64>().unwrap()
+                )),
+                "{args:?}: {err}"
+            );
+            assert!(!err.contains("unexpected argument"), "{args:?}: {err}");
+        }
+    }
+    assert!(!svg.exists(), "nothing is drawn on a refused σ");
+    // The same rule, through the equals form.
+    let out = run(&["recover", "-i", s(&data), "--sigma=-2"]);
+    assert_exit(&out, 2, "--sigma=-2");
+    assert!(stderr(&out).contains("must be finite and non-negative"));
+}
+
+#[test]
+fn fc_with_a_time_sample_file_is_refused() {
+    // --fc sets the band of Fourier files; a time record's band is fixed by its length. Given with a
+    // time file it used to be ignored without a word: now every reader of sample files refuses it.
+    let dir = tmpdir("fctime");
+    let (csv, truth) = simulate(
+        &dir,
+        "rec",
+        &["--samples", "24", "--count", "2", "--seed", "1"],
+    );
+    let svg = dir.join("x.svg");
+    for args in [
+        vec!["recover", "-i", s(&csv), "--fc", "8"],
+        vec!["plot", "-i", s(&csv), "--fc", "8", "-o", s(&svg)],
+        vec!["compare", "-i", s(&csv), "--fc", "8", "--methods", "esprit"],
+        vec![
+            "bound",
+            "-t",
+            s(&truth),
+            "--data",
+            s(&csv),
+            "--fc",
+            "8",
+            "--sigma",
+            "0.1",
+        ],
+    ] {
+        let out = run(&args);
+        assert_exit(&out, 2, &format!("{args:?}"));
+        let err = stderr(&out);
+        assert!(
+            err.contains("--fc 8 applies to Fourier coefficients")
+                && err.contains("holds time samples")
+                && err.contains("leave out --fc")
+                && err.contains(s(&csv)),
+            "{args:?}: {err}"
+        );
+    }
+    // Without --fc the same file is read.
+    ok(&run(&["recover", "-i", s(&csv), "-m", "esprit", "-q"]));
+}

@@ -160,3 +160,61 @@ fn even_time_records_round_trip() {
     ]);
     assert_eq!(out.status.code(), Some(2));
 }
+
+#[test]
+fn cutoffs_and_record_lengths_read_as_written() {
+    // A truth file says "fc": 16, not 16.0; a report on an even-length time record speaks of its N
+    // samples, not of a fractional fc = (N − 1)/2.
+    let dir = tmpdir("cutoff");
+    let (_, truth) = simulate(&dir, "band", &["--fc", "16", "--count", "2", "--seed", "3"]);
+    let text = std::fs::read_to_string(&truth).unwrap();
+    assert!(text.contains("\"fc\": 16,"), "{text}");
+    let (csv, truth) = simulate(
+        &dir,
+        "rec",
+        &[
+            "--samples",
+            "64",
+            "--count",
+            "2",
+            "--snr",
+            "30",
+            "--seed",
+            "3",
+        ],
+    );
+    let text = std::fs::read_to_string(&truth).unwrap();
+    assert!(
+        text.contains("\"fc\": 31.5,"),
+        "the record's fc stays exact: {text}"
+    );
+    for args in [
+        vec!["compare", "-i", s(&csv), "--methods", "esprit"],
+        vec![
+            "compare",
+            "-i",
+            s(&csv),
+            "--truth",
+            s(&truth),
+            "--methods",
+            "esprit",
+        ],
+        vec!["bound", "-t", s(&truth), "--data", s(&csv)],
+    ] {
+        let report = ok(&run(&args));
+        assert!(report.contains("N = 64 time samples"), "{args:?}: {report}");
+        assert!(!report.contains("31.5"), "{args:?}: {report}");
+    }
+    let svg = dir.join("rec.svg");
+    ok(&run(&[
+        "plot",
+        "-i",
+        s(&csv),
+        "-m",
+        "esprit",
+        "-o",
+        s(&svg),
+    ]));
+    let drawn = std::fs::read_to_string(&svg).unwrap();
+    assert!(drawn.contains("N = 64 time samples") && !drawn.contains("31.5"));
+}
