@@ -43,7 +43,7 @@ pub fn run(a: RecoverArgs) -> Result<(), Failure> {
     report_warnings(&estimate);
     let text = match a.format {
         Format::Json => io::estimate_to_json(&estimate),
-        Format::Csv => io::spikes_to_csv(&estimate.spikes),
+        Format::Csv => crate::show::spikes_csv(&estimate.spikes),
     };
     println!("{}", text.trim_end());
     Ok(())

@@ -1,12 +1,14 @@
 //! Numbers and bands as people write them: `0.0185`, `9.217`, `16`, `2.5e-7`, "N = 64 time samples".
 //!
 //! Text reports use [`num`] (4 significant digits) or [`sig`]; machine-readable CSV uses [`exact`],
-//! which keeps every digit of the `f64` (it reads back to the same number).
+//! which keeps every digit of the `f64` (it reads back to the same number), in the files this tool
+//! writes ([`samples_csv`], [`spikes_csv`]) as in its reports.
 
-use finespike::{Domain, Measurements};
+use finespike::{Domain, Measurements, Spikes};
 
-/// Fixed notation is used for magnitudes in `[SMALL, LARGE)`, an exponent outside.
-const SMALL: f64 = 1e-3;
+/// Fixed notation is used for magnitudes in `[SMALL, LARGE)`, an exponent outside (the switch to an
+/// exponent below 1e-4 is that of C's `%g`, common practice).
+const SMALL: f64 = 1e-4;
 const LARGE: f64 = 1e6;
 
 /// `x` with 4 significant digits (see [`sig`]).
@@ -14,7 +16,7 @@ pub fn num(x: f64) -> String {
     sig(x, 4)
 }
 
-/// `x` with `digits` significant digits: fixed notation from 0.001 up to a million, an exponent
+/// `x` with `digits` significant digits: fixed notation from 0.0001 up to a million, an exponent
 /// (`2.5e-7`, `3.1e8`) outside; trailing zeros dropped, so integers print without a decimal point
 /// (`16`, not `16.0`).
 pub fn sig(x: f64, digits: usize) -> String {
@@ -80,6 +82,46 @@ pub fn band(data: &Measurements) -> String {
     }
 }
 
+/// Measurements as a sample file: `k,re,im` (Fourier coefficients, by k) or `n,re,im` (time samples,
+/// n = 0..N-1; the library stores `x_n` at `k = −n`), every value in full ([`exact`]).
+pub fn samples_csv(data: &Measurements) -> String {
+    let mut rows: Vec<(i64, num_complex::Complex64)> = data
+        .indices()
+        .iter()
+        .copied()
+        .zip(data.values().iter().copied())
+        .collect();
+    let header = match data.domain() {
+        Domain::Fourier => "k,re,im\n",
+        Domain::Time => {
+            for row in &mut rows {
+                row.0 = -row.0;
+            }
+            rows.sort_by_key(|r| r.0);
+            "n,re,im\n"
+        }
+    };
+    let mut out = String::from(header);
+    for (i, v) in rows {
+        out.push_str(&format!("{i},{},{}\n", exact(v.re), exact(v.im)));
+    }
+    out
+}
+
+/// Spikes as CSV `position,re,im`, every value in full ([`exact`]).
+pub fn spikes_csv(spikes: &Spikes) -> String {
+    let mut out = String::from("position,re,im\n");
+    for s in spikes {
+        out.push_str(&format!(
+            "{},{},{}\n",
+            exact(s.position),
+            exact(s.amplitude.re),
+            exact(s.amplitude.im)
+        ));
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -96,6 +138,9 @@ mod tests {
             (9.217_312, "9.217"),
             (0.018_500_7, "0.0185"),
             (0.001_234_56, "0.001235"),
+            (0.000_919_1, "0.0009191"),
+            (0.000_123_44, "0.0001234"),
+            (5.745e-5, "5.745e-5"),
             (0.999_99, "1"),
             (123_456.7, "123457"),
             (2.5e-7, "2.5e-7"),
@@ -139,5 +184,24 @@ mod tests {
         let y = vec![num_complex::Complex64::new(1.0, 0.0); 33];
         let full = Measurements::in_band(-16, 16, &k, &y, Domain::Fourier).unwrap();
         assert_eq!(band(&full), "33 coefficients, fc = 16");
+    }
+
+    #[test]
+    fn written_sample_files_read_back_exactly() {
+        use num_complex::Complex64;
+        // x_n of one line at 0.2 cycles per sample with values of every magnitude.
+        let y: Vec<Complex64> = (0..6)
+            .map(|n| {
+                Complex64::from_polar(10f64.powi(n - 3), 0.4 * std::f64::consts::PI * n as f64)
+            })
+            .collect();
+        let record = Measurements::from_time_samples(&y).unwrap();
+        let text = samples_csv(&record);
+        assert!(text.starts_with("n,re,im\n0,0.001,0\n1,"), "{text}");
+        let rows = finespike::io::parse_samples(&text, "written").unwrap();
+        let back = rows.into_measurements(None).unwrap();
+        assert_eq!(back.indices(), record.indices());
+        assert_eq!(back.values(), record.values());
+        assert!(!text.contains("e0,") && !text.contains("e0\n"), "{text}");
     }
 }

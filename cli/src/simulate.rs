@@ -100,7 +100,7 @@ pub fn run(a: SimulateArgs) -> Result<(), Failure> {
         spikes: &sample.truth,
     };
     let json = serde_json::to_string_pretty(&file).map_err(|e| Failure::Output(e.to_string()))?;
-    write_output(&a.out, &finespike::io::samples_to_csv(&sample.data))?;
+    write_output(&a.out, &crate::show::samples_csv(&sample.data))?;
     write_output(&a.truth, &(json + "\n"))?;
     Ok(())
 }

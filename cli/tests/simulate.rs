@@ -166,9 +166,15 @@ fn cutoffs_and_record_lengths_read_as_written() {
     // A truth file says "fc": 16, not 16.0; a report on an even-length time record speaks of its N
     // samples, not of a fractional fc = (N − 1)/2.
     let dir = tmpdir("cutoff");
-    let (_, truth) = simulate(&dir, "band", &["--fc", "16", "--count", "2", "--seed", "3"]);
+    let (samples, truth) = simulate(
+        &dir,
+        "band",
+        &["--fc", "16", "--count", "2", "--snr", "30", "--seed", "3"],
+    );
     let text = std::fs::read_to_string(&truth).unwrap();
     assert!(text.contains("\"fc\": 16,"), "{text}");
+    // The sample file: values in full, without `2.38e0`-style exponents.
+    assert_plain_numbers(&std::fs::read_to_string(&samples).unwrap());
     let (csv, truth) = simulate(
         &dir,
         "rec",

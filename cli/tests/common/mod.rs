@@ -128,3 +128,22 @@ pub fn positions(v: &Value) -> Vec<f64> {
         .map(|s| s["position"].as_f64().unwrap())
         .collect()
 }
+
+/// Every number in `text` written with an exponent: (token, value).
+pub fn exponent_numbers(text: &str) -> Vec<(String, f64)> {
+    text.split(|c: char| !(c.is_ascii_alphanumeric() || c == '.' || c == '-' || c == '+'))
+        .filter(|t| t.contains('e') && t.starts_with(|c: char| c.is_ascii_digit() || c == '-'))
+        .filter_map(|t| t.parse::<f64>().ok().map(|x| (t.to_string(), x)))
+        .collect()
+}
+
+/// No number of ordinary magnitude (0.0001 up to a million) in `text` is written with an exponent
+/// (`9.2173e0`, `2.38e0`): such numbers are written as people write them.
+pub fn assert_plain_numbers(text: &str) {
+    for (token, x) in exponent_numbers(text) {
+        assert!(
+            !(1e-4..1e6).contains(&x.abs()),
+            "'{token}' in an exponent form: {text}"
+        );
+    }
+}
