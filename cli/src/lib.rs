@@ -1,5 +1,9 @@
 //! Command-line front end of finespike: `recover`, `simulate`, `compare`, `bound`, `plot`.
 //!
+//! The binary `finespike` (`src/main.rs`) only calls [`main`]; the subcommands live here, one module
+//! per subcommand, so that their documentation builds without colliding with the library's (the
+//! binary and the library would both be documented as `finespike`).
+//!
 //! Files: samples are CSV with header `k,re,im` (Fourier coefficients `y_k`) or `n,re,im` (time samples
 //! `x_n`, stored as `k = −n`); spikes (truth or result) are JSON
 //! `{"fc": 8, "sigma": 0.01, "spikes": [{"position": 0.25, "amplitude": [re, im]}]}`.
@@ -18,6 +22,7 @@ mod compare;
 mod input;
 mod plot;
 mod recover;
+mod show;
 mod simulate;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
@@ -127,7 +132,7 @@ struct MethodArgs {
     method: String,
     /// Noise standard deviation σ (E|n_k|² = σ²) for the methods that use one; 0 means exact data;
     /// omitted: estimated from the data.
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     sigma: Option<f64>,
     /// Model order (number of spikes), for the methods that take one: the subspace methods and
     /// greedy (any other method refuses it); omitted: the method decides (MDL, or the residual).
@@ -175,7 +180,8 @@ enum Failure {
     Output(String),
 }
 
-fn main() -> ExitCode {
+/// Parse the command line, run the subcommand and map its failure to an exit code (see above).
+pub fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match cli.command {
         Command::Recover(a) => recover::run(a),
@@ -218,11 +224,25 @@ fn noise_level(sigma: Option<f64>) -> NoiseLevel {
     }
 }
 
-/// Build the estimator of `args`; an invalid setting or an option the method does not take is a
-/// command-line error. Notes about ignored options go to stderr.
-fn configure(args: &MethodArgs) -> Result<Box<dyn finespike::Estimator>, Failure> {
+/// The noise level asked for with `--sigma`, checked once with the library's noise-level rule
+/// ([`NoiseLevel::validated`]): a negative or non-finite σ is a command-line error.
+fn requested_noise(sigma: Option<f64>) -> Result<NoiseLevel, Failure> {
+    noise_level(sigma).validated().map_err(|e| match e {
+        Error::InvalidSetting { value, rule, .. } => {
+            Failure::Usage(format!("--sigma {value}: {rule}"))
+        }
+        other => Failure::Usage(format!("--sigma: {other}")),
+    })
+}
+
+/// Build the estimator of `args` with the requested noise level `noise`; an invalid setting or an
+/// option the method does not take is a command-line error. Notes about ignored options go to stderr.
+fn configure(
+    args: &MethodArgs,
+    noise: NoiseLevel,
+) -> Result<Box<dyn finespike::Estimator>, Failure> {
     let options = finespike::registry::MethodOptions {
-        noise: noise_level(args.sigma),
+        noise,
         order: args.order,
         backend: args.solver.backend(),
     };
@@ -234,18 +254,16 @@ fn configure(args: &MethodArgs) -> Result<Box<dyn finespike::Estimator>, Failure
         )),
             other => Failure::Usage(other.to_string()),
         })?;
-    {
-        for what in &configured.unused {
-            let flag = if *what == "noise level" {
-                "--sigma"
-            } else {
-                "--solver"
-            };
-            eprintln!(
-                "note: method '{}' does not use a {what}; {flag} is ignored",
-                args.method
-            );
-        }
+    for what in &configured.unused {
+        let flag = if *what == "noise level" {
+            "--sigma"
+        } else {
+            "--solver"
+        };
+        eprintln!(
+            "note: method '{}' does not use a {what}; {flag} is ignored",
+            args.method
+        );
     }
     Ok(configured.estimator)
 }
@@ -286,5 +304,9 @@ mod tests {
         assert_eq!(noise_level(None), NoiseLevel::Estimate);
         assert_eq!(noise_level(Some(0.0)), NoiseLevel::Exact);
         assert_eq!(noise_level(Some(0.5)), NoiseLevel::Known(0.5));
+        assert!(requested_noise(Some(0.5)).is_ok());
+        for bad in [-1.0, f64::NAN, f64::INFINITY] {
+            assert!(matches!(requested_noise(Some(bad)), Err(Failure::Usage(_))));
+        }
     }
 }

@@ -1,6 +1,6 @@
 //! Reading input files with errors that name the file, the line, what was found and what was expected.
 
-use crate::{shown, DomainArg};
+use crate::{shown, DomainArg, Failure};
 use finespike::eval::io::{self, SpikeFile};
 use finespike::{Domain, Error, Measurements};
 use std::path::{Path, PathBuf};
@@ -24,7 +24,8 @@ pub struct SampleArgs {
     /// Sample file (CSV, header `k,re,im` or `n,re,im`).
     #[arg(long, short)]
     pub input: PathBuf,
-    /// Cutoff fc of the band -fc..fc (Fourier files; default: the largest |k| in the file).
+    /// Cutoff fc of the band -fc..fc, for Fourier files only (default: the largest |k| in the file);
+    /// a time-sample file's band is fixed by its N samples, and --fc is refused with one.
     #[arg(long)]
     pub fc: Option<usize>,
     /// Expected kind of file; the header must agree (default: taken from the header).
@@ -34,22 +35,24 @@ pub struct SampleArgs {
 
 impl SampleArgs {
     /// Read the file into measurements.
-    pub fn load(&self) -> Result<Measurements, Error> {
+    pub fn load(&self) -> Result<Measurements, Failure> {
         load_samples(&self.input, self.fc, self.domain)
     }
 }
 
 /// Read a sample file into measurements.
 ///
-/// `fc` fixes the band of a Fourier file (default: the largest `|k|`); `domain`, when given, must agree
-/// with the header. Duplicate indices and indices outside the band are reported with their line.
+/// `fc` fixes the band of a Fourier file (default: the largest `|k|`); given with a time-sample file,
+/// whose band the record length fixes, it is a command-line error (exit 2) rather than ignored.
+/// `domain`, when given, must agree with the header. Duplicate indices and indices outside the band
+/// are reported with their line (exit 3).
 pub fn load_samples(
     path: &Path,
     fc: Option<usize>,
     domain: Option<DomainArg>,
-) -> Result<Measurements, Error> {
-    let text = read_text(path)?;
-    let rows = io::parse_samples(&text, &shown(path))?;
+) -> Result<Measurements, Failure> {
+    let text = read_text(path).map_err(Failure::Input)?;
+    let rows = io::parse_samples(&text, &shown(path)).map_err(Failure::Input)?;
     let header = match rows.domain {
         Domain::Fourier => "k,re,im",
         Domain::Time => "n,re,im",
@@ -60,14 +63,21 @@ pub fn load_samples(
                 DomainArg::Fourier => ("fourier", "k,re,im"),
                 DomainArg::Time => ("time", "n,re,im"),
             };
-            return Err(parse_error(
+            return Err(Failure::Input(parse_error(
                 path,
                 1,
                 format!("--domain {name} expects header '{want}', found '{header}'"),
-            ));
+            )));
         }
     }
-    rows.into_measurements(fc)
+    if let (Some(f), Domain::Time) = (fc, rows.domain) {
+        return Err(Failure::Usage(format!(
+            "--fc {f} applies to Fourier coefficients (header 'k,re,im'), but {} holds time samples \
+             (header 'n,re,im'), whose band is fixed by the number of samples: leave out --fc",
+            shown(path)
+        )));
+    }
+    rows.into_measurements(fc).map_err(Failure::Input)
 }
 
 /// Read a spike JSON file (truth or result).

@@ -2,8 +2,8 @@
 
 use crate::{write_output, AmpArg, DomainArg, Failure};
 use clap::Args;
-use finespike::eval::io::SpikeFile;
-use finespike::{Error, Scenario};
+use finespike::{Error, Scenario, Spikes};
+use serde::Serialize;
 use std::path::PathBuf;
 
 /// The flags that describe an invented scene (shared by `simulate` and the sweeps of `compare`).
@@ -94,13 +94,36 @@ pub fn run(a: SimulateArgs) -> Result<(), Failure> {
         .scenario(a.fc, a.domain, a.samples, a.scene.seed)
         .generate()
         .map_err(scene_error)?;
-    let file = SpikeFile {
-        fc: Some(sample.data.fc()),
-        sigma: Some(sample.sigma),
-        spikes: sample.truth.clone(),
+    let file = TruthFile {
+        fc: Cutoff(sample.data.fc()),
+        sigma: sample.sigma,
+        spikes: &sample.truth,
     };
     let json = serde_json::to_string_pretty(&file).map_err(|e| Failure::Output(e.to_string()))?;
-    write_output(&a.out, &finespike::eval::io::samples_to_csv(&sample.data))?;
+    write_output(&a.out, &crate::show::samples_csv(&sample.data))?;
     write_output(&a.truth, &(json + "\n"))?;
     Ok(())
+}
+
+/// The truth file `simulate` writes: the spike-file format (`finespike::eval::io::SpikeFile`) with fc
+/// written as people write it.
+#[derive(Serialize)]
+struct TruthFile<'a> {
+    fc: Cutoff,
+    sigma: f64,
+    spikes: &'a Spikes,
+}
+
+/// A cutoff: an integer (`16`, not `16.0`) when it is one; a time record of even length N keeps its
+/// fractional fc = (N − 1)/2 (e.g. `31.5`), from which `bound` rebuilds the record.
+struct Cutoff(f64);
+
+impl Serialize for Cutoff {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        if self.0.fract() == 0.0 && self.0 >= 0.0 && self.0 <= u32::MAX as f64 {
+            s.serialize_u64(self.0 as u64)
+        } else {
+            s.serialize_f64(self.0)
+        }
+    }
 }

@@ -1,15 +1,20 @@
 //! `compare`: several estimators on one file, or on a sweep of invented scenes, in one table.
 
+use crate::recover::warnings;
+use crate::show::{self, exact, num};
 use crate::simulate::{scene_error, SceneArgs};
-use crate::{input, noise_level, shown, DomainArg, Failure, ReportFormat, SolverArg};
+use crate::{
+    input, noise_level, requested_noise, shown, DomainArg, Failure, ReportFormat, SolverArg,
+};
 use clap::{ArgGroup, Args, ValueEnum};
 use finespike::eval::sweep::{self, Outcome, Summary, Tally};
-use finespike::registry::{configure, MethodOptions};
+use finespike::registry::{configure, method_names, MethodOptions};
+use finespike::{crb_for, Error, Estimate, Estimator, NoiseLevel, PROVEN_SEPARATION_FC};
 
+/// Whether the named method takes a model order (the registry says).
 fn takes_order(name: &str) -> bool {
     finespike::registry::method(name).is_ok_and(|m| m.takes_order)
 }
-use finespike::{crb_for, Error, Estimate, Estimator, NoiseLevel};
 use indicatif::{ProgressBar, ProgressStyle};
 use serde_json::json;
 use std::io::IsTerminal;
@@ -37,7 +42,7 @@ use std::time::Instant;
 pub struct CompareArgs {
     /// Methods to run, comma-separated (e.g. `sdp,ast,esprit`), or `all`.
     #[arg(long, value_delimiter = ',', default_value = "all",
-          value_parser = clap::builder::PossibleValuesParser::new(finespike::registry::method_names().chain(["all"])))]
+          value_parser = clap::builder::PossibleValuesParser::new(method_names().chain(["all"])))]
     methods: Vec<String>,
     /// Sample file to run every method on (CSV, header `k,re,im` or `n,re,im`).
     #[arg(long, short, conflicts_with = "SceneArgs")]
@@ -47,7 +52,7 @@ pub struct CompareArgs {
     truth: Option<PathBuf>,
     /// With --input: noise standard deviation σ given to the methods that use one (0 = exact data;
     /// omitted: estimated). Also sets σ for the Cramér–Rao column (otherwise the truth file's sigma).
-    #[arg(long, requires = "input")]
+    #[arg(long, requires = "input", allow_hyphen_values = true)]
     sigma: Option<f64>,
     /// Model order for the methods that take one (the subspace methods and greedy); the others
     /// choose their own and a note says so.
@@ -56,8 +61,8 @@ pub struct CompareArgs {
     /// Solver of the convex problem for sdp and ast (see `recover --help`).
     #[arg(long, value_enum, default_value_t = SolverArg::Auto)]
     solver: SolverArg,
-    /// Cutoff fc: of the band of --input (default: the largest |k|), or of the invented scenes
-    /// (default 16).
+    /// Cutoff fc: of the band of a Fourier --input file (default: the largest |k|; refused with a
+    /// time-sample file), or of the invented scenes (default 16).
     #[arg(long)]
     fc: Option<usize>,
     /// Fourier coefficients or time samples: checked against the header of --input; the kind of
@@ -81,22 +86,20 @@ pub struct CompareArgs {
     format: ReportFormat,
 }
 
-/// The method names asked for, checked against [`METHODS`].
+/// The method names asked for, checked against the registry.
 fn method_list(asked: &[String]) -> Result<Vec<&'static str>, Failure> {
     if asked.iter().any(|m| m == "all") {
-        return Ok(finespike::registry::method_names().collect());
+        return Ok(method_names().collect());
     }
     let mut out = Vec::new();
     for name in asked {
-        match finespike::registry::method_names().find(|m| *m == name.as_str()) {
+        match method_names().find(|m| *m == name.as_str()) {
             Some(m) if !out.contains(&m) => out.push(m),
             Some(_) => {}
             None => {
                 return Err(Failure::Usage(format!(
                     "unknown method '{name}' in --methods: known methods are {}, or all",
-                    finespike::registry::method_names()
-                        .collect::<Vec<_>>()
-                        .join(", ")
+                    method_names().collect::<Vec<_>>().join(", ")
                 )))
             }
         }
@@ -234,7 +237,12 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             let v = json!({
                 "mode": "sweep",
                 "scene": {
-                    "fc": a.samples.map_or(fc as f64, |n| (n as f64 - 1.0) / 2.0),
+                    "fc": match a.samples {
+                        // fc = (N − 1)/2: an integer for odd N, a half-integer for even N.
+                        Some(n) if n % 2 == 0 => json!((n as f64 - 1.0) / 2.0),
+                        Some(n) => json!((n - 1) / 2),
+                        None => json!(fc),
+                    },
                     "samples": a.samples,
                     "domain": match (a.samples, domain) {
                         (None, DomainArg::Fourier) => "fourier",
@@ -253,7 +261,7 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             });
             pretty(&v)
         }
-        ReportFormat::Csv => sweep::to_csv(&summaries),
+        ReportFormat::Csv => summaries_csv(&summaries),
         ReportFormat::Text => {
             let mut out = format!(
                 "{trials} invented scenes (seeds {}..={}): {} spikes, closest pair {}/fc, {band}, {}, \
@@ -261,9 +269,9 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
                 s.seed,
                 s.seed.wrapping_add(trials as u64 - 1),
                 s.count,
-                s.separation,
+                num(s.separation),
                 match s.snr {
-                    Some(snr) => format!("SNR {snr} dB (weakest spike)"),
+                    Some(snr) => format!("SNR {} dB (weakest spike)", num(snr)),
                     None => "exact data".to_string(),
                 },
                 s.amplitudes
@@ -286,17 +294,20 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             ));
             out.push_str(&sweep::table(&summaries));
             out.push_str(&legend(s.snr.is_some()));
+            // The scenes' own separation (the truth, before any estimate) against the Rayleigh limit
+            // 1/fc and the library's proven threshold.
             if s.separation < 1.0 {
                 out.push_str(&format!(
                     "\nUNDER-RESOLVED: the closest pair is {}/fc apart, below the Rayleigh limit 1/fc; \
                      no recovery guarantee covers these scenes and failures are expected.\n",
-                    s.separation
+                    num(s.separation)
                 ));
-            } else if s.separation < 1.26 {
+            } else if s.separation < PROVEN_SEPARATION_FC {
                 out.push_str(&format!(
                     "\nNote: the closest pair is {}/fc apart, below the proven exact-recovery threshold \
-                     1.26/fc for TV minimisation.\n",
-                    s.separation
+                     {}/fc for TV minimisation.\n",
+                    num(s.separation),
+                    num(PROVEN_SEPARATION_FC)
                 ));
             }
             out
@@ -304,6 +315,36 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
     };
     print!("{text}");
     every_run_failed(summaries.iter().all(|s| s.errors == s.trials))
+}
+
+/// The summaries as CSV, one row per method: the columns of the text table, every figure in full
+/// ([`exact`]) and an empty cell where a figure does not exist.
+fn summaries_csv(summaries: &[Summary]) -> String {
+    let mut out = String::from(
+        "method,trials,true_spikes,found,missed,spurious,complete,rmse_fc,max_error_fc,rmse_over_crb,\
+         median_seconds,errors,not_converged,warned\n",
+    );
+    let cell = |v: Option<f64>| v.map_or_else(String::new, exact);
+    for s in summaries {
+        out.push_str(&format!(
+            "{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n",
+            s.method,
+            s.trials,
+            s.true_spikes,
+            s.found,
+            s.missed,
+            s.spurious,
+            s.complete,
+            cell(s.rmse_fc),
+            cell(s.max_error_fc),
+            cell(s.rmse_over_crb),
+            exact(s.median_seconds),
+            s.errors,
+            s.not_converged,
+            s.warned
+        ));
+    }
+    out
 }
 
 fn legend(noisy: bool) -> String {
@@ -334,15 +375,12 @@ fn pretty(v: &serde_json::Value) -> String {
 }
 
 fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result<(), Failure> {
-    let data = input::load_samples(&path, a.fc, a.domain).map_err(Failure::Input)?;
+    let noise = requested_noise(a.sigma)?;
+    let data = input::load_samples(&path, a.fc, a.domain)?;
     let truth = match &a.truth {
         Some(t) => Some(input::load_spikes(t).map_err(Failure::Input)?),
         None => None,
     };
-    let noise = noise_level(a.sigma);
-    noise
-        .validated()
-        .map_err(|e: Error| Failure::Usage(e.to_string()))?;
     let Some(truth) = truth else {
         return file_without_truth(a, &path, &data, methods, noise);
     };
@@ -368,14 +406,13 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
             "crb_sigma": crb_sigma,
             "methods": rows.iter().map(|(s, o)| json!({"summary": s, "outcome": o})).collect::<Vec<_>>(),
         })),
-        ReportFormat::Csv => sweep::to_csv(&summaries),
+        ReportFormat::Csv => summaries_csv(&summaries),
         ReportFormat::Text => {
             let sep = truth.spikes.min_separation() * data.fc();
             let mut out = format!(
-                "{} ({} samples, fc = {}) against {} ({} spikes{}); σ for the bound: {}\n\n",
+                "{} ({}) against {} ({} spikes{}); σ for the bound: {}\n\n",
                 shown(&path),
-                data.len(),
-                data.fc(),
+                show::band(&data),
                 a.truth.as_deref().map_or_else(String::new, shown),
                 truth.spikes.len(),
                 if sep.is_finite() {
@@ -383,10 +420,7 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
                 } else {
                     String::new()
                 },
-                crb_sigma.map_or_else(
-                    || "none (exact data or unknown)".to_string(),
-                    |s| format!("{s:.4e}")
-                )
+                crb_sigma.map_or_else(|| "none (exact data or unknown)".to_string(), num)
             );
             out.push_str(&sweep::table(&summaries));
             out.push('\n');
@@ -445,16 +479,16 @@ fn file_without_truth(
             for (m, r, s) in &results {
                 match r {
                     Ok(e) => out.push_str(&format!(
-                        "{m},{},{},{},{:e},{s:e},\n",
+                        "{m},{},{},{},{},{},\n",
                         e.status,
                         e.spikes.len(),
-                        e.diagnostics
-                            .separation_fc
-                            .map_or_else(String::new, |x| format!("{x:e}")),
-                        e.diagnostics.residual_norm
+                        e.diagnostics.separation_fc.map_or_else(String::new, exact),
+                        exact(e.diagnostics.residual_norm),
+                        exact(*s)
                     )),
                     Err(e) => out.push_str(&format!(
-                        "{m},,,,,{s:e},\"{}\"\n",
+                        "{m},,,,,{},\"{}\"\n",
+                        exact(*s),
                         e.to_string().replace('"', "'")
                     )),
                 }
@@ -463,10 +497,9 @@ fn file_without_truth(
         }
         ReportFormat::Text => {
             let mut out = format!(
-                "{} ({} samples, fc = {}); no truth given: each method's own figures\n\n",
+                "{} ({}); no truth given: each method's own figures\n\n",
                 shown(path),
-                data.len(),
-                data.fc()
+                show::band(data)
             );
             out.push_str(&format!(
                 "{:<8} {:>18} {:>6} {:>10} {:>11} {:>9}\n",
@@ -476,13 +509,13 @@ fn file_without_truth(
             for (m, r, s) in &results {
                 match r {
                     Ok(e) => out.push_str(&format!(
-                        "{m:<8} {:>18} {:>6} {:>10} {:>11.3e} {s:>9.4}\n",
+                        "{m:<8} {:>18} {:>6} {:>10} {:>11} {s:>9.4}\n",
                         e.status.to_string(),
                         e.spikes.len(),
                         e.diagnostics
                             .separation_fc
                             .map_or_else(|| "-".to_string(), |x| format!("{x:.3}")),
-                        e.diagnostics.residual_norm
+                        num(e.diagnostics.residual_norm)
                     )),
                     Err(_) => out.push_str(&format!(
                         "{m:<8} {:>18} {:>6} {:>10} {:>11} {s:>9.4}\n",
@@ -500,7 +533,7 @@ fn file_without_truth(
                             .map(|s| format!("{:.6}", s.position))
                             .collect();
                         out.push_str(&format!("{m}: positions {}\n", pos.join(" ")));
-                        for w in &e.diagnostics.warnings {
+                        for w in warnings(e) {
                             out.push_str(&format!("  warning: {w}\n"));
                         }
                     }

@@ -1,7 +1,10 @@
 //! `plot`: an SVG of the data, the dual polynomial and the spikes.
 
-use crate::recover::report_warnings;
-use crate::{configure, file_name, input, shown, write_output, Failure, MethodArgs};
+use crate::recover::{report_warnings, warnings};
+use crate::show::{self, num, sig};
+use crate::{
+    configure, file_name, input, requested_noise, shown, write_output, Failure, MethodArgs,
+};
 use clap::Args;
 use finespike::eval::io::SpikeFile;
 use finespike::eval::metrics;
@@ -128,7 +131,8 @@ fn draw_err<E: std::fmt::Display>(e: E) -> Failure {
 }
 
 pub fn run(a: PlotArgs) -> Result<(), Failure> {
-    let data = a.samples.load().map_err(Failure::Input)?;
+    let noise = requested_noise(a.method.sigma)?;
+    let data = a.samples.load()?;
     let truth: Option<SpikeFile> = match &a.truth {
         Some(t) => Some(input::load_spikes(t).map_err(Failure::Input)?),
         None => None,
@@ -148,7 +152,7 @@ pub fn run(a: PlotArgs) -> Result<(), Failure> {
             a.width
         )));
     }
-    let estimator = configure(&a.method)?;
+    let estimator = configure(&a.method, noise)?;
     let estimate = estimator.estimate(&data).map_err(Failure::Estimate)?;
     report_warnings(&estimate);
     let svg = render(&a, &data, truth.as_ref(), &estimate, (x0, x1))?;
@@ -167,18 +171,7 @@ fn caption(
 ) -> Vec<Line> {
     let fc = data.fc();
     let mut raw: Vec<(String, bool)> = Vec::new();
-    let kind = match data.domain() {
-        Domain::Fourier => format!(
-            "{} Fourier coefficients{} (fc = {fc})",
-            data.len(),
-            if data.is_full_band() {
-                ""
-            } else {
-                " (a subset of the band)"
-            }
-        ),
-        Domain::Time => format!("{} time samples (fc = (N-1)/2 = {fc})", data.len()),
-    };
+    let kind = show::band(data);
     let sep = |s: Option<f64>, count: usize| match (s, count) {
         (Some(x), _) => format!("closest pair {x:.3}/fc apart (Rayleigh units)"),
         (None, 0) => "so no separation to report".to_string(),
@@ -202,7 +195,9 @@ fn caption(
                 .count()
         };
         let mut line = format!(
-            "View {x0}..{x1} of [0, 1): {} of {} recovered spikes shown",
+            "View {}..{} of [0, 1): {} of {} recovered spikes shown",
+            num(x0),
+            num(x1),
             inside(&est.spikes),
             est.spikes.len()
         );
@@ -230,7 +225,7 @@ fn caption(
                 score.found, score.missed, score.spurious
             ));
             if let Some(e) = score.max_position_error_fc {
-                line.push_str(&format!(", largest position error {e:.2e}/fc"));
+                line.push_str(&format!(", largest position error {}/fc", sig(e, 3)));
             }
         }
         line.push('.');
@@ -265,19 +260,11 @@ fn caption(
         )),
         None => {}
     }
-    if !est.status.is_usable() {
-        raw.push((
-            format!(
-                "WARNING: the solver stopped with status '{}': the spikes drawn are not a converged solution.",
-                est.status
-            ),
-            true,
-        ));
-    }
-    if est.diagnostics.warnings.is_empty() {
+    let cautions = warnings(est);
+    if cautions.is_empty() {
         raw.push(("No warnings.".to_string(), false));
     }
-    for w in &est.diagnostics.warnings {
+    for w in cautions {
         raw.push((format!("WARNING: {w}."), true));
     }
     raw.into_iter()

@@ -1,8 +1,9 @@
 //! `bound`: the Cramér–Rao bound of the spikes in a truth file.
 
-use crate::{input, shown, DomainArg, Failure, ReportFormat};
+use crate::show::{self, exact, num};
+use crate::{input, requested_noise, shown, DomainArg, Failure, ReportFormat};
 use clap::Args;
-use finespike::{crb, Crb, Domain, Measurements};
+use finespike::{crb, Crb, Measurements};
 use serde_json::json;
 use std::path::PathBuf;
 
@@ -24,7 +25,7 @@ pub struct BoundArgs {
     #[arg(long)]
     data: Option<PathBuf>,
     /// Noise standard deviation σ, E|n_k|² = σ² (default: the truth file's sigma; must be > 0).
-    #[arg(long)]
+    #[arg(long, allow_hyphen_values = true)]
     sigma: Option<f64>,
     /// Cutoff fc of the band -fc..fc (default: the truth file's fc).
     #[arg(long)]
@@ -66,25 +67,12 @@ fn integer_fc(fc: Option<usize>, file_fc: Option<f64>) -> Result<usize, Failure>
 
 fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
     if let Some(path) = &a.data {
-        let data: Measurements =
-            input::load_samples(path, a.fc, a.domain).map_err(Failure::Input)?;
+        let data: Measurements = input::load_samples(path, a.fc, a.domain)?;
         return Ok(Band {
             indices: data.indices().to_vec(),
             kmin: data.kmin(),
             kmax: data.kmax(),
-            describe: format!(
-                "{} measured {} of {} (band {}..{} of k; fc = {})",
-                data.len(),
-                if data.domain() == Domain::Time {
-                    "time samples"
-                } else {
-                    "coefficients"
-                },
-                shown(path),
-                data.kmin(),
-                data.kmax(),
-                data.fc()
-            ),
+            describe: format!("{} ({})", shown(path), show::band(&data)),
         });
     }
     let implied = if a.samples.is_some() {
@@ -143,8 +131,7 @@ fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
                 kmin: -last,
                 kmax: 0,
                 describe: format!(
-                    "{n} time samples n = 0..{last} (fc = (N-1)/2 = {})",
-                    last as f64 / 2.0
+                    "N = {n} time samples n = 0..{last} (Rayleigh units with fc = (N-1)/2)"
                 ),
             })
         }
@@ -153,12 +140,14 @@ fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
 
 pub fn run(a: BoundArgs) -> Result<(), Failure> {
     let file = input::load_spikes(&a.truth).map_err(Failure::Input)?;
+    // A given σ obeys the library's noise-level rule first; then the bound needs noise (σ > 0).
+    requested_noise(a.sigma)?;
     let sigma = match (a.sigma, file.sigma) {
-        (Some(s), _) if s.is_finite() && s > 0.0 => s,
+        (Some(s), _) if s > 0.0 => s,
         (Some(s), _) => {
             return Err(Failure::Usage(format!(
-            "--sigma {s}: the noise level must be finite and positive (for σ = 0 every bound is 0)"
-        )))
+                "--sigma {s}: the bound needs a positive noise level (for σ = 0 every bound is 0)"
+            )))
         }
         (None, Some(s)) if s.is_finite() && s > 0.0 => s,
         (None, Some(s)) => {
@@ -201,15 +190,15 @@ fn csv(b: &Crb) -> String {
     );
     for s in &b.per_spike {
         out.push_str(&format!(
-            "{:e},{:e},{:e},{:e},{:e},{:e},{:e},{:e}\n",
-            s.position,
-            s.amplitude.re,
-            s.amplitude.im,
-            s.std_position,
-            s.std_position_fc,
-            s.std_abs_amplitude,
-            s.std_phase,
-            s.std_complex_amplitude
+            "{},{},{},{},{},{},{},{}\n",
+            exact(s.position),
+            exact(s.amplitude.re),
+            exact(s.amplitude.im),
+            exact(s.std_position),
+            exact(s.std_position_fc),
+            exact(s.std_abs_amplitude),
+            exact(s.std_phase),
+            exact(s.std_complex_amplitude)
         ));
     }
     out
@@ -217,10 +206,11 @@ fn csv(b: &Crb) -> String {
 
 fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spikes) -> String {
     let mut out = format!(
-        "Cramér–Rao bound for the {} spikes of {}\nmeasured: {}\nnoise: σ = {sigma:.4e} (E|n_k|² = σ²)\n",
+        "Cramér–Rao bound for the {} spikes of {}\nmeasured: {}\nnoise: σ = {} (E|n_k|² = σ²)\n",
         b.per_spike.len(),
         shown(&a.truth),
         band.describe,
+        num(sigma),
     );
     let sep = spikes.min_separation() * b.fc;
     if sep.is_finite() {
@@ -234,8 +224,8 @@ fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spi
         ));
     }
     out.push_str(&format!(
-        "Fisher matrix condition number: {:.3e}\n\n",
-        b.fisher_condition
+        "Fisher matrix condition number: {}\n\n",
+        num(b.fisher_condition)
     ));
     let head = [
         "#",
@@ -255,10 +245,10 @@ fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spi
                 (i + 1).to_string(),
                 format!("{:.6}", s.position),
                 format!("{:.4}", s.amplitude.norm()),
-                format!("{:.3e}", s.std_position_fc),
-                format!("{:.3e}", s.std_position),
-                format!("{:.3e}", s.std_abs_amplitude),
-                format!("{:.3e} rad", s.std_phase),
+                num(s.std_position_fc),
+                num(s.std_position),
+                num(s.std_abs_amplitude),
+                format!("{} rad", num(s.std_phase)),
             ]
         })
         .collect();
