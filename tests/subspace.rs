@@ -281,7 +281,7 @@ fn gaps_in_the_measured_set_are_unsupported() {
                 }
                 other => panic!("expected NeedsContiguous, got {other:?}"),
             }
-            assert!(err.to_string().contains("accepts gaps"));
+            assert!(err.to_string().contains("which accept gaps"));
         }
         let p = pseudospectrum(&case.data, &SubspaceSettings::default(), 512);
         assert!(matches!(p, Err(Error::NeedsContiguous { .. })));

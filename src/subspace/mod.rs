@@ -45,18 +45,22 @@ mod music;
 pub(crate) mod order;
 mod pencil;
 
+pub use crate::kernels::budget::{MEMORY_LIMIT_BYTES, WORK_LIMIT};
 pub use crate::kernels::hankel::{Decomposition, DENSE_MAX};
+pub use crate::kernels::hankel_svd::DENSE_SVD_ENTRIES;
+pub use crate::kernels::rank::{numerical_rank, DEFAULT_RANK_TOLERANCE};
 pub use esprit::Esprit;
 pub use music::{pseudospectrum, Music, Pseudospectrum};
-pub use order::{
-    aic, mdl, numerical_rank, ModelOrder, OrderMethod, OrderSelection, DEFAULT_RANK_TOLERANCE,
-};
+pub use order::{aic, mdl, ModelOrder, OrderMethod, OrderSelection};
 pub use pencil::MatrixPencil;
 
 use crate::amplitudes;
 use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status, Warning};
+use crate::kernels::budget::Cost;
 use crate::kernels::hankel::{self, HankelOperator, RandomizedParams, Subspace};
+use crate::kernels::hankel_svd::HankelAnalysis;
+use crate::kernels::rank::looks_exact;
 use crate::model::{wrap, Measurements};
 use crate::postprocess::PostProcess;
 use crate::refine::{refine, RefineSettings};
@@ -270,14 +274,20 @@ impl Baseline {
     }
 }
 
-/// The data, window, order and signal subspace of one estimate.
+/// The data, window, order, signal subspace and Hankel analysis of one estimate.
 pub(crate) struct Prepared {
     pub window: usize,
     pub order: ModelOrder,
     /// `None` for order 0.
     pub subspace: Option<Subspace>,
+    /// The singular values computed for the order, kept for the noise-level estimate.
+    pub analysis: HankelAnalysis,
     pub start: Instant,
 }
+
+/// What to do when a subspace step is past its limits.
+const TOO_LARGE_ADVICE: &str = "give a smaller window or model order (window, order), or use \
+    'greedy' or 'grid', which handle long records";
 
 /// Check the data, fix the window and the order, compute the signal subspace.
 pub(crate) fn prepare(
@@ -314,40 +324,122 @@ pub(crate) fn prepare(
         });
     }
     let identifiable = (l - 1).min(n - l + 1);
-    let model_order = choose_order(order_selection, settings, &seq, l, identifiable)?;
+    if let OrderSelection::Given(r) = order_selection {
+        // Refuse at once, before the order analysis, what the subspace step could not do.
+        check_budget(method, settings, n, l, r.min(identifiable))?;
+    }
+    let mut analysis = HankelAnalysis::new(&seq);
+    let model_order = choose_order(
+        method,
+        order_selection,
+        settings,
+        &mut analysis,
+        l,
+        identifiable,
+    )?;
     let order = model_order.order;
     let subspace = if order == 0 {
         None
     } else {
+        check_budget(method, settings, n, l, order)?;
         let op = HankelOperator::new(&seq, l, settings.forward_backward);
         Some(hankel::signal_subspace(
             &op,
             order,
             settings.decomposition,
-            RandomizedParams {
-                oversampling: settings.oversampling,
-                power_iterations: settings.power_iterations,
-                seed: settings.seed,
-            },
+            randomized_params(settings),
         )?)
     };
     Ok(Prepared {
         window: l,
         order: model_order,
         subspace,
+        analysis,
         start,
     })
 }
 
-/// The model order for data `seq` with window `l` (see [`OrderSelection`] and the `order` module docs).
+fn randomized_params(settings: &SubspaceSettings) -> RandomizedParams {
+    RandomizedParams {
+        oversampling: settings.oversampling,
+        power_iterations: settings.power_iterations,
+        seed: settings.seed,
+    }
+}
+
+/// Working memory and work of everything after the order choice for `r` components: the signal
+/// subspace, the method's own root finding, and the amplitude fit, polish and diagnostics on the
+/// `n` samples (a few `n × r` and `n × 3r` matrices: `8·n·r` complex numbers, and `O(n r²)` work).
+fn estimate_cost(
+    method: Baseline,
+    settings: &SubspaceSettings,
+    n: usize,
+    l: usize,
+    r: usize,
+) -> Cost {
+    let subspace = hankel::subspace_cost(
+        n,
+        l,
+        settings.forward_backward,
+        r,
+        settings.decomposition,
+        randomized_params(settings),
+    );
+    let (nf, lf, rf) = (n as f64, l as f64, r as f64);
+    let roots = match method {
+        Baseline::Esprit => Cost::new(
+            4.0 * lf * rf + 8.0 * rf * rf,
+            8.0 * lf * rf * rf + 50.0 * rf.powi(3),
+        ),
+        Baseline::Pencil => Cost::new(
+            3.0 * lf * rf + 2.0 * rf * rf,
+            4.0 * lf * rf * rf + 25.0 * rf.powi(3),
+        ),
+        Baseline::Music => music::root_cost(l, r),
+    };
+    let fit = Cost::new(8.0 * nf * rf, 20.0 * nf * rf * rf);
+    subspace.then(roots).then(fit)
+}
+
+/// [`Error::TooLarge`] at once when the estimate with `r` components is past the limits of
+/// [`crate::kernels::budget`] (1 GiB of working memory, 2^38 multiply–adds per step).
+fn check_budget(
+    method: Baseline,
+    settings: &SubspaceSettings,
+    n: usize,
+    l: usize,
+    r: usize,
+) -> Result<()> {
+    estimate_cost(method, settings, n, l, r).check(
+        method.name(),
+        || format!("the signal subspace of order {r} with a window of {l} rows (N = {n} samples)"),
+        TOO_LARGE_ADVICE,
+    )
+}
+
+/// The singular values of the `rows`-row forward Hankel matrix, from the analysis (computed at most
+/// once per estimate), after the budget check.
+fn singular_values(method: Baseline, analysis: &mut HankelAnalysis, rows: usize) -> Result<&[f64]> {
+    let n = analysis.len();
+    HankelAnalysis::svd_cost(n, rows).check(
+        method.name(),
+        || format!("the order estimate's Hankel matrix of {rows} rows (N = {n} samples)"),
+        "lower order_window, or give the model order (order)",
+    )?;
+    Ok(analysis.svd(rows)?.singular_values())
+}
+
+/// The model order for the record of `analysis` with window `l` (see [`OrderSelection`] and the
+/// `order` module docs).
 fn choose_order(
+    method: Baseline,
     selection: OrderSelection,
     settings: &SubspaceSettings,
-    seq: &[c64],
+    analysis: &mut HankelAnalysis,
     l: usize,
     identifiable: usize,
 ) -> Result<ModelOrder> {
-    let n = seq.len();
+    let n = analysis.len();
     if let OrderSelection::Given(r) = selection {
         if r > identifiable {
             return Err(Error::InvalidSetting {
@@ -390,26 +482,26 @@ fn choose_order(
     };
     Ok(match selection {
         OrderSelection::NumericalRank { rel_tol } => {
-            rank(&hankel::hankel_singular_values(seq, rank_rows)?, rel_tol)
+            rank(singular_values(method, analysis, rank_rows)?, rel_tol)
         }
         OrderSelection::Aic => criterion(
-            &hankel::hankel_singular_values(seq, stat_rows)?,
+            singular_values(method, analysis, stat_rows)?,
             OrderMethod::Aic,
         ),
         OrderSelection::Mdl => criterion(
-            &hankel::hankel_singular_values(seq, stat_rows)?,
+            singular_values(method, analysis, stat_rows)?,
             OrderMethod::Mdl,
         ),
         // `Given` has returned above.
         OrderSelection::Auto | OrderSelection::Given(_) => {
-            let sv = hankel::hankel_singular_values(seq, rank_rows)?;
-            if order::looks_exact(&sv) {
-                rank(&sv, DEFAULT_RANK_TOLERANCE)
+            let sv = singular_values(method, analysis, rank_rows)?;
+            if looks_exact(sv) {
+                rank(sv, DEFAULT_RANK_TOLERANCE)
             } else if stat_rows == rank_rows {
-                criterion(&sv, OrderMethod::Mdl)
+                criterion(sv, OrderMethod::Mdl)
             } else {
                 criterion(
-                    &hankel::hankel_singular_values(seq, stat_rows)?,
+                    singular_values(method, analysis, stat_rows)?,
                     OrderMethod::Mdl,
                 )
             }
@@ -428,7 +520,7 @@ pub(crate) fn run(
     settings: &SubspaceSettings,
     data: &Measurements,
 ) -> Result<Estimate> {
-    let prepared = prepare(method, settings, data)?;
+    let mut prepared = prepare(method, settings, data)?;
     let (positions, power_iterations) = match &prepared.subspace {
         None => (Vec::new(), 0),
         Some(sub) => {
@@ -451,7 +543,10 @@ pub(crate) fn run(
             (z.into_iter().map(position).collect(), sub.power_iterations)
         }
     };
-    let (sigma, estimated) = match crate::noise::resolve_noise(data, settings.noise) {
+    // The noise-level estimate reuses the singular values of the order choice when its window is
+    // the same (records of 766 samples or more with the default settings).
+    let shared = Some(&mut prepared.analysis);
+    let (sigma, estimated) = match crate::noise::resolve_noise_with(data, settings.noise, shared) {
         Ok(level) => level,
         // Too short a record to estimate σ: no noise assessment and no pruning (both optional).
         Err(Error::RunTooShort { .. }) => (None, false),

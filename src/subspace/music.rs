@@ -29,10 +29,12 @@
 use super::{prepare, run, Baseline, ModelOrder, SubspaceSettings};
 use crate::error::{Error, Result};
 use crate::estimator::{Estimate, Estimator};
+use crate::kernels::budget::Cost;
 use crate::kernels::hankel::numerical;
 use crate::model::Measurements;
 use faer::{c64, Mat, MatRef};
 use rustfft::FftPlanner;
+use std::f64::consts::PI;
 
 /// MUSIC with root-MUSIC positions (method name `music`; Schmidt 1986, IEEE TAP 34(3); Barabell 1983).
 ///
@@ -165,9 +167,54 @@ fn grid_projection(u: MatRef<'_, c64>, g: usize) -> Vec<f64> {
     acc
 }
 
+/// Largest degree `2(L − 1)` of the root-MUSIC polynomial whose roots are computed as the eigenvalues
+/// of its companion matrix (windows `L ≤ 513`). The eigenvalues cost `O(L³)`: 3.7 s at degree 1024 and
+/// 31 s at degree 2048 on the 2-core reference machine (`examples/long_record_memory.rs`, whole
+/// estimate). Longer windows take the roots near the unit circle by Newton's method from the
+/// pseudospectrum's peaks (module docs).
+pub const COMPANION_MAX_DEGREE: usize = 1024;
+
+/// Grid points per window row of the pseudospectrum that seeds the Newton path (module docs).
+const GRID_PER_ROW: usize = 8;
+
+/// Newton steps allowed per root on the Newton path.
+const NEWTON_STEPS: usize = 60;
+
+/// Working memory and work of the root finding for a window of `l` rows and order `r`: the companion
+/// matrix and its eigenvalue workspace (about `15·d³` multiply–adds for degree `d`, measured order
+/// of magnitude), or the pseudospectrum grid and the Newton steps.
+pub(crate) fn root_cost(l: usize, r: usize) -> Cost {
+    let d = 2 * (l - 1);
+    if d <= COMPANION_MAX_DEGREE {
+        let df = d as f64;
+        return Cost::new(3.0 * df * df + (l * r) as f64, 15.0 * df * df * df);
+    }
+    let g = newton_grid_len(l) as f64;
+    let (lf, rf) = (l as f64, r as f64);
+    Cost::new(
+        2.0 * g + lf * rf,
+        rf * g * g.log2() + (NEWTON_STEPS as f64) * 4.0 * rf * lf * rf,
+    )
+}
+
+/// Pseudospectrum grid of the Newton path: a power of two, at least `GRID_PER_ROW · L`.
+fn newton_grid_len(l: usize) -> usize {
+    (GRID_PER_ROW * l).next_power_of_two()
+}
+
 /// The root-MUSIC estimates `z_j` (on or near the unit circle) from an orthonormal signal basis `u`
-/// (`L × r`, `L ≥ r + 1`): see the module docs.
+/// (`L × r`, `L ≥ r + 1`): see the module docs. Companion matrix up to degree
+/// [`COMPANION_MAX_DEGREE`], Newton's method from the pseudospectrum's peaks above.
 pub(crate) fn root_music(u: MatRef<'_, c64>) -> Result<Vec<c64>> {
+    if 2 * (u.nrows() - 1) <= COMPANION_MAX_DEGREE {
+        root_music_companion(u)
+    } else {
+        root_music_newton(u)
+    }
+}
+
+/// Root-MUSIC by the eigenvalues of the companion matrix of `z^{L−1} D(z)`.
+fn root_music_companion(u: MatRef<'_, c64>) -> Result<Vec<c64>> {
     let (l, r) = (u.nrows(), u.ncols());
     // Coefficients c_l for l = 0..L−1; c_{−l} = conj(c_l).
     let mut c = vec![c64::new(0.0, 0.0); l];
@@ -233,6 +280,124 @@ pub(crate) fn root_music(u: MatRef<'_, c64>) -> Result<Vec<c64>> {
         });
     }
     Ok(picked)
+}
+
+/// Root-MUSIC for long windows: the `r` deepest local minima of `D` on the unit circle (the peaks of
+/// the pseudospectrum, on a grid of at least `8L` points) seed Newton's method on `D'(z) = 0` in the
+/// complex plane (module docs); a seed whose iteration leaves its neighbourhood or lands on a root
+/// already found is skipped.
+fn root_music_newton(u: MatRef<'_, c64>) -> Result<Vec<c64>> {
+    let (l, r) = (u.nrows(), u.ncols());
+    let g = newton_grid_len(l);
+    let proj = grid_projection(u, g);
+    // D on the grid: L − ‖Uᴴ a(m/G)‖²; its local minima, deepest first.
+    let d: Vec<f64> = proj.iter().map(|p| l as f64 - p).collect();
+    let mut minima: Vec<usize> = (0..g)
+        .filter(|&m| {
+            let (prev, next) = (d[(m + g - 1) % g], d[(m + 1) % g]);
+            d[m] <= prev && d[m] < next
+        })
+        .collect();
+    minima.sort_by(|&a, &b| d[a].total_cmp(&d[b]));
+    let step = 2.0 * PI / g as f64;
+    let mut found: Vec<c64> = Vec::with_capacity(r);
+    for &m in &minima {
+        if found.len() == r {
+            break;
+        }
+        // z = exp(−i2πτ) at τ = m/G.
+        let seed = c64::from_polar(1.0, -step * m as f64);
+        let Some(z) = newton_critical_point(u, seed, l) else {
+            continue;
+        };
+        let angle = |a: c64, b: c64| (a * b.conj()).arg().abs();
+        if angle(z, seed) > 2.0 * step {
+            continue;
+        }
+        if found.iter().any(|&w| angle(z, w) < 0.5 * step) {
+            continue;
+        }
+        found.push(z / z.norm());
+    }
+    if found.len() < r {
+        return Err(Error::Numerical {
+            step: "root-MUSIC root search",
+            detail: format!(
+                "only {} of {r} signal roots found near the unit circle (window L = {l}): lines \
+                 closer than the pseudospectrum resolves; use 'esprit'",
+                found.len()
+            ),
+        });
+    }
+    Ok(found)
+}
+
+/// Newton's method on `D'(z) = 0` from `z`, with `D(z) = L − Σ_i f_i(z) g_i(z)`,
+/// `f_i(z) = Σ_q u_{q,i} z^{−q}`, `g_i(z) = Σ_p conj(u_{p,i}) z^p` (the root-MUSIC polynomial of the
+/// module docs). `None` if the iteration does not converge or leaves the annulus
+/// `|log|z|| ≤ 20/L` (where the powers `z^{±(L−1)}` stay within `e^{±20}`).
+fn newton_critical_point(u: MatRef<'_, c64>, mut z: c64, l: usize) -> Option<c64> {
+    let lf = l as f64;
+    for _ in 0..NEWTON_STEPS {
+        let (d1, d2) = derivatives(u, z);
+        let delta = d1 / d2;
+        if !(delta.re.is_finite() && delta.im.is_finite()) {
+            return None;
+        }
+        z -= delta;
+        let radius = z.norm().ln().abs();
+        if radius.is_nan() || radius > 20.0 / lf {
+            return None;
+        }
+        if delta.norm() <= 4.0 * f64::EPSILON * z.norm() {
+            return Some(z);
+        }
+    }
+    // The last steps were at rounding level if the iteration stalled there; accept a point whose
+    // last step was below a millionth of the grid spacing.
+    let (d1, d2) = derivatives(u, z);
+    ((d1 / d2).norm() <= 1e-6 / (GRID_PER_ROW as f64 * lf)).then_some(z)
+}
+
+/// `(D'(z), D''(z))` for the root-MUSIC polynomial of the orthonormal basis `u` (see
+/// [`newton_critical_point`]), in `O(L r)`. Powers of `z` are formed by repeated multiplication and
+/// re-anchored on `exp(p log z)` every 256 steps, which keeps their rounding at `O(256 ε)`.
+fn derivatives(u: MatRef<'_, c64>, z: c64) -> (c64, c64) {
+    let (l, r) = (u.nrows(), u.ncols());
+    let log_z = z.ln();
+    let w = 1.0 / z;
+    let zero = c64::new(0.0, 0.0);
+    // Per column: f, Σ q u w^q, Σ q(q+1) u w^q and g, Σ p ū z^p, Σ p(p−1) ū z^p.
+    let mut sums = vec![[zero; 6]; r];
+    let (mut zp, mut wp) = (c64::new(1.0, 0.0), c64::new(1.0, 0.0));
+    for p in 0..l {
+        if p % 256 == 0 && p > 0 {
+            zp = (log_z * p as f64).exp();
+            wp = (-log_z * p as f64).exp();
+        }
+        let pf = p as f64;
+        for (i, acc) in sums.iter_mut().enumerate() {
+            let x = u[(p, i)];
+            let (a, b) = (x * wp, x.conj() * zp);
+            acc[0] += a;
+            acc[1] += a * pf;
+            acc[2] += a * (pf * (pf + 1.0));
+            acc[3] += b;
+            acc[4] += b * pf;
+            acc[5] += b * (pf * (pf - 1.0));
+        }
+        zp *= z;
+        wp *= w;
+    }
+    let (mut d1, mut d2) = (zero, zero);
+    for acc in &sums {
+        // f' = −w Σ q u w^q, f'' = w² Σ q(q+1) u w^q, g' = w Σ p ū z^p, g'' = w² Σ p(p−1) ū z^p.
+        let (f, f1, f2) = (acc[0], -w * acc[1], w * w * acc[2]);
+        let (g0, g1, g2) = (acc[3], w * acc[4], w * w * acc[5]);
+        d1 -= f1 * g0 + f * g1;
+        d2 -= f2 * g0 + 2.0 * f1 * g1 + f * g2;
+    }
+    (d1, d2)
 }
 
 /// Pick `r` spike roots from the root-MUSIC polynomial's roots.
