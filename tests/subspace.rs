@@ -695,11 +695,12 @@ fn music_finds_the_lines_of_a_long_record_without_a_companion_matrix() {
     }
 }
 
-/// The noise-level estimate and the order choice use a 256-row Hankel matrix whose streamed QR
-/// costs about 2·N·256² multiply–adds: past the work limit (2^38) near 1.9 million samples. The
-/// refusal comes at once, before any matrix is formed, and says what to do.
+/// The noise-level estimate uses a 256-row Hankel matrix whose streamed QR costs about 2·N·256²
+/// multiply–adds: past the work limit (2^38) near 1.9 million samples. A subspace method's randomized
+/// range finder needs about 1.5 kB per sample with the default window: past the memory limit (1 GiB)
+/// near 700 000 samples. Both refusals come at once, before any matrix is formed, and say what to do.
 #[test]
-fn records_past_the_hankel_work_limit_are_refused_at_once() {
+fn records_past_the_limits_are_refused_at_once() {
     let data = long_exact_record(2_500_000);
     match finespike::estimate_sigma(&data) {
         Err(Error::TooLarge { method, advice, .. }) => {
@@ -708,23 +709,40 @@ fn records_past_the_hankel_work_limit_are_refused_at_once() {
         }
         other => panic!("expected TooLarge, got {other:?}"),
     }
-    // Through an estimator: the order choice refuses first, with its own advice.
-    match Esprit::default().estimate(&data) {
-        Err(Error::TooLarge { method, advice, .. }) => {
-            assert_eq!(method, "esprit");
-            assert!(advice.contains("order"), "{advice}");
-        }
-        other => panic!("expected TooLarge, got {other:?}"),
-    }
-    // With the order and the noise level given, the default window L = N/2 + 1 makes the
-    // randomized subspace itself too large (about 3.6 GB); the advice names the methods that can.
-    let s = given(3)
+    // Order estimated or given, noise level estimated or given: the subspace's own limit refuses
+    // first, and the advice names the methods that can handle the record.
+    let known = given(3)
         .with_noise(finespike::NoiseLevel::Known(0.01))
         .unwrap();
-    match Music::new(s).estimate(&data) {
-        Err(Error::TooLarge { method, advice, .. }) => {
-            assert_eq!(method, "music");
-            assert!(advice.contains("'greedy'"), "{advice}");
+    for s in [SubspaceSettings::default(), known] {
+        for (m, _) in estimators(s) {
+            match m.estimate(&data) {
+                Err(Error::TooLarge { method, advice, .. }) => {
+                    assert_eq!(method, m.name());
+                    assert!(advice.contains("'greedy'"), "{advice}");
+                }
+                other => panic!("expected TooLarge, got {other:?}"),
+            }
+        }
+    }
+}
+
+/// The order choice's Hankel matrix with a raised order window: 1024 rows on 300 000 samples cost
+/// about 7e11 multiply–adds, past the work limit; refused at once with the setting to change.
+#[test]
+fn an_order_window_past_the_work_limit_is_refused_at_once() {
+    let data = long_exact_record(300_000);
+    let s = SubspaceSettings::default().with_order_window(1024).unwrap();
+    match Esprit::new(s).estimate(&data) {
+        Err(Error::TooLarge {
+            method,
+            needed,
+            advice,
+            ..
+        }) => {
+            assert_eq!(method, "esprit");
+            assert!(needed.contains("multiply-adds"), "{needed}");
+            assert!(advice.contains("order_window"), "{advice}");
         }
         other => panic!("expected TooLarge, got {other:?}"),
     }

@@ -40,7 +40,10 @@ pub enum Decomposition {
     /// Dense thin SVD for `N ≤ DENSE_MAX`, randomized range finder above (the default).
     #[default]
     Auto,
-    /// Always the dense thin SVD of the (forward–backward) Hankel matrix (faer): `O(L² M)`.
+    /// Always a full SVD of the (forward–backward) Hankel matrix: `O(L² M)`. Dense (faer) up to
+    /// [`DENSE_SVD_ENTRIES`](crate::subspace::DENSE_SVD_ENTRIES) entries; above, with `L ≤ M`, the
+    /// left singular vectors come from a QR of the conjugate transpose accumulated block by block
+    /// (`O(L²)` memory; see `kernels::hankel_svd`).
     Dense,
     /// Always the randomized range finder with FFT Hankel products (Halko, Martinsson & Tropp 2011):
     /// `O((r + p)(q + 1) N log N)` for `q` power iterations and `p` extra columns.
