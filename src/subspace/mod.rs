@@ -73,7 +73,7 @@ pub use crate::kernels::hankel::{Decomposition, DENSE_MAX};
 pub use crate::kernels::hankel_svd::DENSE_SVD_ENTRIES;
 pub use crate::kernels::rank::{numerical_rank, DEFAULT_RANK_TOLERANCE};
 pub use esprit::Esprit;
-pub use music::{pseudospectrum, Music, Pseudospectrum};
+pub use music::{pseudospectrum, Music, Pseudospectrum, COMPANION_MAX_DEGREE};
 pub use order::{aic, mdl, ModelOrder, OrderMethod, OrderSelection};
 pub use pencil::MatrixPencil;
 
