@@ -33,8 +33,10 @@
 //! from the randomized range finder with FFT products (`O(N·r)` memory), and root-MUSIC from
 //! Newton's method instead of a companion matrix (see [`Music`]). Measured on the 2-core reference
 //! machine with the default settings (`examples/long_record_memory.rs`, an invented record of 5 lines
-//! at 30 dB): `esprit`, `pencil` and `music` at `N = 100 000` in 4.7–4.8 s and 188 MB peak
-//! (the noise-level estimate alone: 3.3 s, 28 MB); time grows about linearly with `N`.
+//! at 30 dB): `esprit`, `pencil` and `music` at `N = 100 000` in 4.7–6.2 s (depending on the
+//! machine's load) and 188 MB peak (the noise-level estimate alone: 3.3–3.6 s, 28 MB), against
+//! 10.7 s and 1.24 GB (`music`: a failed 160 GB allocation) before; time grows about linearly with
+//! `N` (`benches/subspace.rs`, group `long_records`).
 //!
 //! Before it allocates, each step compares what it will need — working memory counted from the
 //! matrices' dimensions, and arithmetic in complex multiply–adds, both functions of `N`, the window,
