@@ -5,15 +5,18 @@
 //! outside the timed closures.
 //!
 //! Groups: `esprit` (Auto, and the dense and randomized decompositions side by side to place the
-//! crossover), `pencil`, `music` (root-MUSIC is O(L³) in its companion matrix: N ≤ 1024), and
+//! crossover), `pencil`, `music` (root-MUSIC through its companion matrix, O(L³): N ≤ 1024),
 //! `esprit_order` (order estimated with the default settings — MDL on these noisy records — instead
-//! of given).
+//! of given), and `long_records`: `esprit`, `pencil`, `music` and the noise-level estimate alone
+//! (`sigma`) with the default settings (order and σ estimated) at N = 4096, 16 384 and 100 000, where
+//! the Hankel singular values are streamed and root-MUSIC takes its Newton path (10 samples each:
+//! about four minutes in all). Run one group with `cargo bench --bench subspace -- long_records`.
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use finespike::subspace::{
     Decomposition, Esprit, MatrixPencil, Music, OrderSelection, SubspaceSettings,
 };
-use finespike::{Estimator, Measurements};
+use finespike::{estimate_sigma, Estimator, Measurements};
 use num_complex::Complex64;
 use rand::rngs::StdRng;
 use rand::{Rng, SeedableRng};
@@ -117,11 +120,35 @@ fn bench_esprit_order(c: &mut Criterion) {
     group.finish();
 }
 
+fn bench_long_records(c: &mut Criterion) {
+    let mut group = c.benchmark_group("long_records");
+    group.sample_size(10);
+    group.warm_up_time(std::time::Duration::from_millis(500));
+    for n in [4096, 16_384, 100_000] {
+        let data = record(n);
+        let methods: [(&str, Box<dyn Estimator>); 3] = [
+            ("esprit", Box::new(Esprit::default())),
+            ("pencil", Box::new(MatrixPencil::default())),
+            ("music", Box::new(Music::default())),
+        ];
+        for (label, est) in &methods {
+            group.bench_with_input(BenchmarkId::new(*label, n), &data, |b, data| {
+                b.iter(|| black_box(est.estimate(data).expect("long record")))
+            });
+        }
+        group.bench_with_input(BenchmarkId::new("sigma", n), &data, |b, data| {
+            b.iter(|| black_box(estimate_sigma(data).expect("noise level")))
+        });
+    }
+    group.finish();
+}
+
 criterion_group!(
     benches,
     bench_esprit,
     bench_pencil,
     bench_music,
-    bench_esprit_order
+    bench_esprit_order,
+    bench_long_records
 );
 criterion_main!(benches);

@@ -130,7 +130,8 @@ impl fmt::Display for Status {
 #[derive(Debug, Clone, PartialEq)]
 #[non_exhaustive]
 pub enum Warning {
-    /// Recovered spikes closer than the proven threshold 1.26/fc (but at least 1/fc).
+    /// Recovered spikes closer than the proven threshold [`PROVEN_SEPARATION_FC`]` = 1.26/fc` (but
+    /// at least 1/fc).
     BelowProvenSeparation {
         /// Minimum separation of the recovered support, in Rayleigh units.
         separation_fc: f64,
@@ -190,7 +191,8 @@ impl fmt::Display for Warning {
             Warning::BelowProvenSeparation { separation_fc } => write!(
                 f,
                 "recovered spikes are {separation_fc:.3}/fc apart, below the proven exact-recovery \
-                 threshold 1.26/fc: positions and amplitudes of the closest lines may be wrong"
+                 threshold {PROVEN_SEPARATION_FC}/fc: positions and amplitudes of the closest lines \
+                 may be wrong"
             ),
             Warning::BelowRayleigh { separation_fc } => write!(
                 f,
@@ -278,7 +280,7 @@ pub struct Diagnostics {
     pub warnings: Vec<Warning>,
     /// The model order (number of spikes) a subspace method worked with, and how it was chosen
     /// (`None` for methods without a model-order step).
-    pub model_order: Option<crate::subspace::ModelOrder>,
+    pub model_order: Option<ModelOrder>,
     /// `‖y − Fμ̂‖² / (σ² (|K| − 1.5 s))` when a noise level is known or estimated: near 1 when the
     /// residual is consistent with the noise (3 real parameters per spike against 2 per sample).
     pub residual_ratio: Option<f64>,
@@ -339,7 +341,7 @@ impl DiagnosticsBuilder<'_> {
     }
 
     /// The model order a method worked with.
-    pub fn model_order(mut self, order: crate::subspace::ModelOrder) -> Self {
+    pub fn model_order(mut self, order: ModelOrder) -> Self {
         self.diagnostics.model_order = Some(order);
         self
     }
@@ -463,6 +465,53 @@ impl Diagnostics {
             }
             self.crb_std_position_fc = Some(stds);
         }
+    }
+}
+
+/// How a model order was obtained.
+///
+/// ```
+/// use finespike::subspace::OrderMethod;
+/// assert_eq!(OrderMethod::Mdl.to_string(), "MDL");
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+#[non_exhaustive]
+pub enum OrderMethod {
+    /// Given in the settings.
+    Given,
+    /// Minimum description length (Wax & Kailath 1985).
+    Mdl,
+    /// Akaike's information criterion (Wax & Kailath 1985).
+    Aic,
+    /// Numerical rank of the Hankel data matrix.
+    NumericalRank,
+}
+
+impl fmt::Display for OrderMethod {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(match self {
+            OrderMethod::Given => "given",
+            OrderMethod::Mdl => "MDL",
+            OrderMethod::Aic => "AIC",
+            OrderMethod::NumericalRank => "numerical rank",
+        })
+    }
+}
+
+/// The model order an estimate used, and how it was chosen (reported in
+/// [`Diagnostics::model_order`](crate::Diagnostics::model_order)).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub struct ModelOrder {
+    /// Number of spikes.
+    pub order: usize,
+    /// How the number was obtained.
+    pub method: OrderMethod,
+}
+
+impl fmt::Display for ModelOrder {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{} ({})", self.order, self.method)
     }
 }
 

@@ -642,3 +642,150 @@ fn pruning_removes_components_of_an_overestimated_order() {
     );
     assert_eq!((pruned_spurious, pruned_missed), (0, 0));
 }
+
+// ---- Long records: the Newton path of root-MUSIC and the limits before allocation -------------
+
+/// An invented long record: `n` samples of three lines at 0.1, 0.35 and 0.8 cycles/sample.
+fn long_exact_record(n: usize) -> Measurements {
+    let x = time_samples(
+        &[0.1, 0.35, 0.8],
+        &[
+            Complex64::new(1.0, 0.0),
+            Complex64::new(0.0, 0.7),
+            Complex64::new(-0.5, 0.5),
+        ],
+        n,
+    );
+    Measurements::from_time_samples(&x).unwrap()
+}
+
+/// Window L = 10 001 puts root-MUSIC's polynomial at degree 20 000, past the companion matrix
+/// (degree ≤ 1024): the roots come from the pseudospectrum's peaks polished by Newton's method.
+/// Invented scene: N = 20 000 samples, 5 lines at least 4 Rayleigh units apart, exact and 30 dB.
+#[test]
+fn music_finds_the_lines_of_a_long_record_without_a_companion_matrix() {
+    for snr in [None, Some(30.0)] {
+        let mut scene = Scenario::time_record(20_000, 5)
+            .with_separation(4.0)
+            .with_amplitudes(AmplitudeKind::UnitModulus)
+            .with_seed(21);
+        if let Some(db) = snr {
+            scene = scene.with_snr_db(db);
+        }
+        let sample = scene.generate().unwrap();
+        let music = Music::default().estimate(&sample.data).unwrap();
+        let esprit = Esprit::default().estimate(&sample.data).unwrap();
+        assert_eq!(music.spikes.len(), 5);
+        // The seeding grid has 8·16384 points, a spacing of 7.6e-6 cycles/sample: the bounds below
+        // need the Newton polish. Exact data: rounding level (bound 1e-10). At 30 dB the position
+        // error is a few times the Cramér–Rao deviation √(6σ²/((2π)²|a|²N³)) ≈ 1.4e-9 (Rife &
+        // Boorstyn 1974, IEEE TIT 20(5), single-tone form, recalled from memory): bound 1e-7, and
+        // MUSIC and ESPRIT agree to the same bound.
+        let bound = if snr.is_some() { 1e-7 } else { 1e-10 };
+        for t in sample.truth.iter() {
+            let nearest = |e: &finespike::Estimate| {
+                e.spikes
+                    .iter()
+                    .map(|s| wrap_distance(s.position, t.position))
+                    .fold(f64::INFINITY, f64::min)
+            };
+            assert!(nearest(&music) < bound, "{snr:?}: {:e}", nearest(&music));
+            assert!(nearest(&esprit) < bound, "{snr:?}: {:e}", nearest(&esprit));
+        }
+    }
+}
+
+/// The noise-level estimate uses a 256-row Hankel matrix whose streamed QR costs about 2·N·256²
+/// multiply–adds: past the work limit (2^38) near 1.9 million samples. A subspace method's randomized
+/// range finder needs about 1.5 kB per sample with the default window: past the memory limit (1 GiB)
+/// near 700 000 samples. Both refusals come at once, before any matrix is formed, and say what to do.
+#[test]
+fn records_past_the_limits_are_refused_at_once() {
+    let data = long_exact_record(2_500_000);
+    match finespike::estimate_sigma(&data) {
+        Err(Error::TooLarge { method, advice, .. }) => {
+            assert_eq!(method, "the noise-level estimate");
+            assert!(advice.contains("sigma"), "{advice}");
+        }
+        other => panic!("expected TooLarge, got {other:?}"),
+    }
+    // Order estimated or given, noise level estimated or given: the subspace's own limit refuses
+    // first, and the advice names the methods that can handle the record.
+    let known = given(3)
+        .with_noise(finespike::NoiseLevel::Known(0.01))
+        .unwrap();
+    for s in [SubspaceSettings::default(), known] {
+        for (m, _) in estimators(s) {
+            match m.estimate(&data) {
+                Err(Error::TooLarge { method, advice, .. }) => {
+                    assert_eq!(method, m.name());
+                    assert!(advice.contains("'greedy'"), "{advice}");
+                }
+                other => panic!("expected TooLarge, got {other:?}"),
+            }
+        }
+    }
+}
+
+/// The order choice's Hankel matrix with a raised order window: 1024 rows on 300 000 samples cost
+/// about 7e11 multiply–adds, past the work limit; refused at once with the setting to change.
+#[test]
+fn an_order_window_past_the_work_limit_is_refused_at_once() {
+    let data = long_exact_record(300_000);
+    let s = SubspaceSettings::default().with_order_window(1024).unwrap();
+    match Esprit::new(s).estimate(&data) {
+        Err(Error::TooLarge {
+            method,
+            needed,
+            advice,
+            ..
+        }) => {
+            assert_eq!(method, "esprit");
+            assert!(needed.contains("multiply-adds"), "{needed}");
+            assert!(advice.contains("order_window"), "{advice}");
+        }
+        other => panic!("expected TooLarge, got {other:?}"),
+    }
+}
+
+/// Every subspace step past the memory limit (1 GiB) is refused before it allocates: an order window
+/// of 4000 rows (a streamed 4000 × 4000 factor and its SVD, about 5.6 GB), the dense decomposition of
+/// a 10 001-row window, and a given order of 5000 with the randomized range finder (about 9.6 GB).
+#[test]
+fn subspace_steps_past_the_memory_limit_are_refused_at_once() {
+    let data = long_exact_record(20_000);
+    let wide_order = SubspaceSettings::default().with_order_window(4000).unwrap();
+    let dense = given(3).with_decomposition(Decomposition::Dense);
+    let many = given(5000);
+    for (label, s) in [
+        ("order window", wide_order),
+        ("dense", dense),
+        ("order", many),
+    ] {
+        for (m, _) in estimators(s) {
+            match m.estimate(&data) {
+                Err(Error::TooLarge { method, needed, .. }) => {
+                    assert_eq!(method, m.name());
+                    assert!(
+                        needed.ends_with("GB of working memory"),
+                        "{label}: {needed}"
+                    );
+                }
+                other => panic!("{label}, {}: expected TooLarge, got {other:?}", m.name()),
+            }
+        }
+    }
+    // The same record with the defaults is within the limits.
+    assert_eq!(Esprit::default().estimate(&data).unwrap().spikes.len(), 3);
+}
+
+/// A pseudospectrum grid past the memory limit (2^26 points, 40 bytes each) is refused before the
+/// subspace is computed.
+#[test]
+fn pseudospectrum_grid_past_the_memory_limit_is_refused() {
+    let case = load_case("nl_fc16_s2p00_cx");
+    assert!(matches!(
+        pseudospectrum(&case.data, &given(2), 1 << 26),
+        Err(Error::TooLarge { .. })
+    ));
+}

@@ -18,6 +18,8 @@
 //! SIAM Review 53(2), Algorithms 4.3/4.4 and 5.1, numbers recalled from memory) built on the FFT
 //! products for large `N`.
 
+use super::budget::Cost;
+use super::hankel_svd::{dense_svd_cost, streaming_r, streaming_svd_cost, DENSE_SVD_ENTRIES};
 use crate::error::{Error, Result};
 use faer::{c64, Mat, MatRef};
 use rand::rngs::StdRng;
@@ -38,7 +40,10 @@ pub enum Decomposition {
     /// Dense thin SVD for `N ≤ DENSE_MAX`, randomized range finder above (the default).
     #[default]
     Auto,
-    /// Always the dense thin SVD of the (forward–backward) Hankel matrix (faer): `O(L² M)`.
+    /// Always a full SVD of the (forward–backward) Hankel matrix: `O(L² M)`. Dense (faer) up to
+    /// [`DENSE_SVD_ENTRIES`](crate::subspace::DENSE_SVD_ENTRIES) entries; above, with `L ≤ M`, the
+    /// left singular vectors come from a QR of the conjugate transpose accumulated block by block
+    /// (`O(L²)` memory; see `kernels::hankel_svd`).
     Dense,
     /// Always the randomized range finder with FFT Hankel products (Halko, Martinsson & Tropp 2011):
     /// `O((r + p)(q + 1) N log N)` for `q` power iterations and `p` extra columns.
@@ -63,7 +68,7 @@ pub(crate) struct HankelOperator {
 }
 
 /// Smallest `m ≥ n` whose only prime factors are 2, 3 and 5 (fast FFT sizes).
-fn fast_len(n: usize) -> usize {
+pub(crate) fn fast_len(n: usize) -> usize {
     let mut m = n.max(1);
     loop {
         let mut r = m;
@@ -197,17 +202,21 @@ impl HankelOperator {
         out
     }
 
-    /// The data matrix as a dense matrix (the brute-force reference for the fast products).
+    /// Entry `(p, q)` of the data matrix: `h_{p+q}` in the forward block, `conj(h_{N−1−p−(q−M)})` in
+    /// the backward one.
+    #[inline]
+    pub(crate) fn entry(&self, p: usize, q: usize) -> c64 {
+        if q < self.cols {
+            self.seq[p + q]
+        } else {
+            self.seq[self.n - 1 - p - (q - self.cols)].conj()
+        }
+    }
+
+    /// The data matrix as a dense matrix (small matrices, and the brute-force reference for the fast
+    /// products).
     pub(crate) fn dense(&self) -> Mat<c64> {
-        let (l, m, n) = (self.rows, self.cols, self.n);
-        let seq = &self.seq;
-        Mat::from_fn(l, self.ncols(), |p, q| {
-            if q < m {
-                seq[p + q]
-            } else {
-                seq[n - 1 - p - (q - m)].conj()
-            }
-        })
+        Mat::from_fn(self.rows, self.ncols(), |p, q| self.entry(p, q))
     }
 }
 
@@ -249,6 +258,21 @@ pub(crate) fn signal_subspace(
     };
     let width = r + params.oversampling;
     if dense || width >= op.nrows().min(op.ncols()) {
+        let (l, m) = (op.nrows(), op.ncols());
+        if l * m > DENSE_SVD_ENTRIES && l <= m {
+            // A long record: the left singular vectors of A are those of Rᴴ for Aᴴ = QR, R
+            // accumulated over blocks of columns of A (see `hankel_svd`); A is never formed.
+            let rf = streaming_r(l, m, |p, q| op.entry(p, q));
+            let svd = rf
+                .adjoint()
+                .to_owned()
+                .thin_svd()
+                .map_err(|e| numerical("singular value decomposition", e))?;
+            return Ok(Subspace {
+                basis: svd.U().get(.., ..r).to_owned(),
+                power_iterations: 0,
+            });
+        }
         let svd = op
             .dense()
             .thin_svd()
@@ -288,12 +312,42 @@ pub(crate) fn signal_subspace(
     })
 }
 
-/// Singular values (non-increasing) of the forward Hankel matrix of `seq` with `rows` rows.
-pub(crate) fn hankel_singular_values(seq: &[c64], rows: usize) -> Result<Vec<f64>> {
-    let op = HankelOperator::new(seq, rows, false);
-    op.dense()
-        .singular_values()
-        .map_err(|e| numerical("singular values", e))
+/// Working memory and work of [`signal_subspace`] for a record of `n` samples, `rows` rows, order `r`
+/// (the same choice of decomposition; see [`super::budget`]).
+pub(crate) fn subspace_cost(
+    n: usize,
+    rows: usize,
+    forward_backward: bool,
+    r: usize,
+    decomposition: Decomposition,
+    params: RandomizedParams,
+) -> Cost {
+    let blocks = if forward_backward { 2 } else { 1 };
+    let cols = blocks * (n + 1 - rows);
+    let dense = match decomposition {
+        Decomposition::Auto => n <= DENSE_MAX,
+        Decomposition::Dense => true,
+        Decomposition::Randomized => false,
+    };
+    let width = r + params.oversampling;
+    if dense || width >= rows.min(cols) {
+        return if rows * cols > DENSE_SVD_ENTRIES && rows <= cols {
+            streaming_svd_cost(rows, cols)
+        } else {
+            dense_svd_cost(rows, cols)
+        };
+    }
+    let (l, m, w) = (rows as f64, cols as f64, width as f64);
+    let nfft = fast_len(n) as f64;
+    // Ω, Y, Z and B^H with their QR and SVD copies (about four matrices of each height), the operator's
+    // transform and per-product FFT buffers.
+    let entries = 4.0 * (l + m) * w + 6.0 * nfft;
+    // Each product with A or Aᴴ: `blocks` correlations of two FFTs of length nfft per column; each
+    // half step orthonormalises (QR of an l × w or m × w matrix); the last SVD is of an m × w matrix.
+    let steps = 2.0 * params.power_iterations as f64 + 2.0;
+    let fft = blocks as f64 * 2.0 * nfft * nfft.log2().max(1.0);
+    let work = steps * w * fft + steps * (l + m) * w * w + 4.0 * m * w * w;
+    Cost::new(entries, work)
 }
 
 #[cfg(test)]

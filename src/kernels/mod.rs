@@ -10,8 +10,12 @@
 //!   objective in the band frame (Sliding Frank–Wolfe's slide; `greedy` uses it too).
 //! - [`refine`]: the bounded Levenberg–Marquardt polish of a support on the exact model, in the data's
 //!   own frame (the final step of every estimate, through [`crate::postprocess`]).
-//! - [`hankel`]: the Hankel matrix of a contiguous run of samples, its singular values and signal
-//!   subspace (dense below a size limit, randomized range finder with FFT products above).
+//! - [`hankel`]: the Hankel matrix of a contiguous run of samples as an FFT-fast operator, and its
+//!   signal subspace (dense below a size limit, randomized range finder with FFT products above).
+//! - [`hankel_svd`]: singular values and vectors of the forward Hankel matrix, computed once per
+//!   estimate and shared by the model order and the noise-level estimate; streamed for long records.
+//! - [`rank`]: the numerical-rank rule and the exact-data test on singular values.
+//! - [`budget`]: the memory and work limits every kernel checks before allocating.
 
 /// Relative residual `‖y − Fμ‖ ≤ EXACT_STOP·‖y‖` at which a fit to exact data counts as exact and the
 /// greedy methods stop (`grid`, `greedy`): rounding of a well-conditioned fit is far below it.
@@ -27,8 +31,11 @@ pub(crate) fn noise_ball_radius(sigma: f64, m: usize) -> f64 {
 }
 
 pub(crate) mod band;
+pub(crate) mod budget;
 pub(crate) mod hankel;
+pub(crate) mod hankel_svd;
 pub(crate) mod lstsq;
 pub(crate) mod peaks;
+pub(crate) mod rank;
 pub(crate) mod refine;
 pub(crate) mod slide;

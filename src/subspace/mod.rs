@@ -22,6 +22,31 @@
 //!
 //! A measured set with gaps is not supported (there is no Hankel structure to exploit): use `sdp`.
 //!
+//! ## One Hankel analysis per estimate, long records, limits
+//!
+//! The singular values that choose the order (a forward Hankel matrix of at most
+//! [`SubspaceSettings::order_window`] rows) are computed once and handed to the noise-level estimate
+//! ([`crate::noise`]), which uses the same 256-row matrix from `N = 766` samples on; the exact-data
+//! test on them is the one rule of the kernel layer ([`DEFAULT_RANK_TOLERANCE`]). No step forms a
+//! matrix whose size grows like `N²`: above [`DENSE_SVD_ENTRIES`] entries the singular values come
+//! from a QR of `Hᴴ` accumulated block by block (`O(L²)` memory for `L` rows), the signal subspace
+//! from the randomized range finder with FFT products (`O(N·r)` memory), and root-MUSIC from
+//! Newton's method instead of a companion matrix (see [`Music`]). Measured on the 2-core reference
+//! machine with the default settings (`examples/long_record_memory.rs`, an invented record of 5 lines
+//! at 30 dB): `esprit`, `pencil` and `music` at `N = 100 000` in 4.7–6.2 s (depending on the
+//! machine's load) and 188 MB peak (the noise-level estimate alone: 3.3–3.6 s, 28 MB), against
+//! 10.7 s and 1.24 GB (`music`: a failed 160 GB allocation) before; time grows about linearly with
+//! `N` (`benches/subspace.rs`, group `long_records`).
+//!
+//! Before it allocates, each step compares what it will need — working memory counted from the
+//! matrices' dimensions, and arithmetic in complex multiply–adds, both functions of `N`, the window,
+//! the order and the settings — with [`MEMORY_LIMIT_BYTES`] (1 GiB) and [`WORK_LIMIT`] (2^38, about a
+//! minute), and past either returns [`Error::TooLarge`] at once, naming what to change or the methods
+//! (`greedy`, `grid`) that handle the record. With the default settings the randomized subspace of
+//! the default window reaches the memory limit at about 700 000 samples (about 1.5 kB per sample), so
+//! the subspace methods refuse longer records at once; the noise-level estimate alone, as the other
+//! methods use it, reaches the work limit at about 1.8 million samples.
+//!
 //! ## References
 //! - R. O. Schmidt (1986), Multiple emitter location and signal parameter estimation, IEEE TAP 34(3).
 //!   doi:10.1109/TAP.1986.1143830
@@ -45,18 +70,22 @@ mod music;
 pub(crate) mod order;
 mod pencil;
 
+pub use crate::kernels::budget::{MEMORY_LIMIT_BYTES, WORK_LIMIT};
 pub use crate::kernels::hankel::{Decomposition, DENSE_MAX};
+pub use crate::kernels::hankel_svd::DENSE_SVD_ENTRIES;
+pub use crate::kernels::rank::{numerical_rank, DEFAULT_RANK_TOLERANCE};
 pub use esprit::Esprit;
-pub use music::{pseudospectrum, Music, Pseudospectrum};
-pub use order::{
-    aic, mdl, numerical_rank, ModelOrder, OrderMethod, OrderSelection, DEFAULT_RANK_TOLERANCE,
-};
+pub use music::{pseudospectrum, Music, Pseudospectrum, COMPANION_MAX_DEGREE};
+pub use order::{aic, mdl, ModelOrder, OrderMethod, OrderSelection};
 pub use pencil::MatrixPencil;
 
 use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status, Warning};
+use crate::kernels::budget::Cost;
 use crate::kernels::hankel::{self, HankelOperator, RandomizedParams, Subspace};
+use crate::kernels::hankel_svd::HankelAnalysis;
 use crate::kernels::lstsq;
+use crate::kernels::rank::looks_exact;
 use crate::kernels::refine::{refine, RefineSettings};
 use crate::model::{wrap, Measurements};
 use crate::postprocess::PostProcess;
@@ -87,8 +116,9 @@ pub struct SubspaceSettings {
     /// (default 256). MDL and AIC use `p = min(⌈N/3⌉, order_window)` rows: the criteria treat the
     /// `N − p + 1` columns as snapshots of a `p`-sensor covariance and need clearly more snapshots than
     /// sensors (with a square matrix the spread of the noise eigenvalues makes them overestimate).
-    /// The numerical rank uses `p = min(L, order_window)`. The cap keeps that dense SVD affordable for
-    /// long records; an estimated order is at most `p − 1`.
+    /// The numerical rank uses `p = min(L, order_window)`. The cap keeps that SVD affordable for long
+    /// records (its cost is about `2·N·p²` multiply–adds and `22·p²` complex numbers of memory, see
+    /// the module docs on limits); an estimated order is at most `p − 1`.
     pub order_window: usize,
     /// Dense SVD or randomized range finder (default [`Decomposition::Auto`]).
     pub decomposition: Decomposition,
@@ -270,14 +300,20 @@ impl Baseline {
     }
 }
 
-/// The data, window, order and signal subspace of one estimate.
+/// The data, window, order, signal subspace and Hankel analysis of one estimate.
 pub(crate) struct Prepared {
     pub window: usize,
     pub order: ModelOrder,
     /// `None` for order 0.
     pub subspace: Option<Subspace>,
+    /// The singular values computed for the order, kept for the noise-level estimate.
+    pub analysis: HankelAnalysis,
     pub start: Instant,
 }
+
+/// What to do when a subspace step is past its limits.
+const TOO_LARGE_ADVICE: &str = "give a smaller window or model order (window, order), or use \
+    'greedy' or 'grid', which handle long records";
 
 /// Check the data, fix the window and the order, compute the signal subspace.
 pub(crate) fn prepare(
@@ -314,40 +350,125 @@ pub(crate) fn prepare(
         });
     }
     let identifiable = (l - 1).min(n - l + 1);
-    let model_order = choose_order(order_selection, settings, &seq, l, identifiable)?;
+    // Refuse at once, before the order analysis, what the subspace step could not do: with the
+    // given order, or with one component when the order is to be estimated.
+    let least = match order_selection {
+        OrderSelection::Given(r) => r.min(identifiable),
+        _ => 1,
+    };
+    check_budget(method, settings, n, l, least)?;
+    let mut analysis = HankelAnalysis::new(&seq);
+    let model_order = choose_order(
+        method,
+        order_selection,
+        settings,
+        &mut analysis,
+        l,
+        identifiable,
+    )?;
     let order = model_order.order;
     let subspace = if order == 0 {
         None
     } else {
+        check_budget(method, settings, n, l, order)?;
         let op = HankelOperator::new(&seq, l, settings.forward_backward);
         Some(hankel::signal_subspace(
             &op,
             order,
             settings.decomposition,
-            RandomizedParams {
-                oversampling: settings.oversampling,
-                power_iterations: settings.power_iterations,
-                seed: settings.seed,
-            },
+            randomized_params(settings),
         )?)
     };
     Ok(Prepared {
         window: l,
         order: model_order,
         subspace,
+        analysis,
         start,
     })
 }
 
-/// The model order for data `seq` with window `l` (see [`OrderSelection`] and the `order` module docs).
+fn randomized_params(settings: &SubspaceSettings) -> RandomizedParams {
+    RandomizedParams {
+        oversampling: settings.oversampling,
+        power_iterations: settings.power_iterations,
+        seed: settings.seed,
+    }
+}
+
+/// Working memory and work of everything after the order choice for `r` components: the signal
+/// subspace, the method's own root finding, and the amplitude fit, polish and diagnostics on the
+/// `n` samples (a few `n × r` and `n × 3r` matrices: `8·n·r` complex numbers, and `O(n r²)` work).
+fn estimate_cost(
+    method: Baseline,
+    settings: &SubspaceSettings,
+    n: usize,
+    l: usize,
+    r: usize,
+) -> Cost {
+    let subspace = hankel::subspace_cost(
+        n,
+        l,
+        settings.forward_backward,
+        r,
+        settings.decomposition,
+        randomized_params(settings),
+    );
+    let (nf, lf, rf) = (n as f64, l as f64, r as f64);
+    let roots = match method {
+        Baseline::Esprit => Cost::new(
+            4.0 * lf * rf + 8.0 * rf * rf,
+            8.0 * lf * rf * rf + 50.0 * rf.powi(3),
+        ),
+        Baseline::Pencil => Cost::new(
+            3.0 * lf * rf + 2.0 * rf * rf,
+            4.0 * lf * rf * rf + 25.0 * rf.powi(3),
+        ),
+        Baseline::Music => music::root_cost(l, r),
+    };
+    let fit = Cost::new(8.0 * nf * rf, 20.0 * nf * rf * rf);
+    subspace.then(roots).then(fit)
+}
+
+/// [`Error::TooLarge`] at once when the estimate with `r` components is past the limits of
+/// [`crate::kernels::budget`] (1 GiB of working memory, 2^38 multiply–adds per step).
+fn check_budget(
+    method: Baseline,
+    settings: &SubspaceSettings,
+    n: usize,
+    l: usize,
+    r: usize,
+) -> Result<()> {
+    estimate_cost(method, settings, n, l, r).check(
+        method.name(),
+        || format!("the signal subspace of order {r} with a window of {l} rows (N = {n} samples)"),
+        TOO_LARGE_ADVICE,
+    )
+}
+
+/// The singular values of the `rows`-row forward Hankel matrix, from the analysis (computed at most
+/// once per estimate), after the budget check.
+fn singular_values(method: Baseline, analysis: &mut HankelAnalysis, rows: usize) -> Result<&[f64]> {
+    let n = analysis.len();
+    HankelAnalysis::svd_cost(n, rows).check(
+        method.name(),
+        || format!("the order estimate's Hankel matrix of {rows} rows (N = {n} samples)"),
+        "lower order_window, or give the model order (order)",
+    )?;
+    Ok(analysis.svd(rows)?.singular_values())
+}
+
+/// The model order for the record of `analysis` with window `l` (see [`OrderSelection`] and the
+/// `order` module docs).
 fn choose_order(
+    method: Baseline,
     selection: OrderSelection,
     settings: &SubspaceSettings,
-    seq: &[c64],
+    analysis: &mut HankelAnalysis,
     l: usize,
     identifiable: usize,
 ) -> Result<ModelOrder> {
-    let n = seq.len();
+    let n = analysis.len();
     if let OrderSelection::Given(r) = selection {
         if r > identifiable {
             return Err(Error::InvalidSetting {
@@ -390,26 +511,26 @@ fn choose_order(
     };
     Ok(match selection {
         OrderSelection::NumericalRank { rel_tol } => {
-            rank(&hankel::hankel_singular_values(seq, rank_rows)?, rel_tol)
+            rank(singular_values(method, analysis, rank_rows)?, rel_tol)
         }
         OrderSelection::Aic => criterion(
-            &hankel::hankel_singular_values(seq, stat_rows)?,
+            singular_values(method, analysis, stat_rows)?,
             OrderMethod::Aic,
         ),
         OrderSelection::Mdl => criterion(
-            &hankel::hankel_singular_values(seq, stat_rows)?,
+            singular_values(method, analysis, stat_rows)?,
             OrderMethod::Mdl,
         ),
         // `Given` has returned above.
         OrderSelection::Auto | OrderSelection::Given(_) => {
-            let sv = hankel::hankel_singular_values(seq, rank_rows)?;
-            if order::looks_exact(&sv) {
-                rank(&sv, DEFAULT_RANK_TOLERANCE)
+            let sv = singular_values(method, analysis, rank_rows)?;
+            if looks_exact(sv) {
+                rank(sv, DEFAULT_RANK_TOLERANCE)
             } else if stat_rows == rank_rows {
-                criterion(&sv, OrderMethod::Mdl)
+                criterion(sv, OrderMethod::Mdl)
             } else {
                 criterion(
-                    &hankel::hankel_singular_values(seq, stat_rows)?,
+                    singular_values(method, analysis, stat_rows)?,
                     OrderMethod::Mdl,
                 )
             }
@@ -428,7 +549,7 @@ pub(crate) fn run(
     settings: &SubspaceSettings,
     data: &Measurements,
 ) -> Result<Estimate> {
-    let prepared = prepare(method, settings, data)?;
+    let mut prepared = prepare(method, settings, data)?;
     let (positions, power_iterations) = match &prepared.subspace {
         None => (Vec::new(), 0),
         Some(sub) => {
@@ -451,7 +572,10 @@ pub(crate) fn run(
             (z.into_iter().map(position).collect(), sub.power_iterations)
         }
     };
-    let (sigma, estimated) = match crate::noise::resolve_noise(data, settings.noise) {
+    // The noise-level estimate reuses the singular values of the order choice when its window is
+    // the same (records of 766 samples or more with the default settings).
+    let shared = Some(&mut prepared.analysis);
+    let (sigma, estimated) = match crate::noise::resolve_noise_with(data, settings.noise, shared) {
         Ok(level) => level,
         // Too short a record to estimate σ: no noise assessment and no pruning (both optional).
         Err(Error::RunTooShort { .. }) => (None, false),
@@ -477,16 +601,16 @@ pub(crate) fn run(
             spikes
         }
     };
-    let mut diagnostics = Diagnostics::describe(data, &spikes);
-    if spikes.len() < prepared.order.order && statistical {
-        diagnostics.warnings.push(Warning::OrderPruned {
+    let pruned =
+        (spikes.len() < prepared.order.order && statistical).then_some(Warning::OrderPruned {
             estimated: prepared.order.order,
             kept: spikes.len(),
         });
-    }
-    diagnostics.iterations = power_iterations + refine_steps;
-    diagnostics.model_order = Some(prepared.order);
-    diagnostics.assess_noise(data, &spikes, sigma, estimated);
+    let mut diagnostics = Diagnostics::builder(data, &spikes)
+        .warnings(pruned)
+        .iterations(power_iterations + refine_steps)
+        .model_order(prepared.order)
+        .noise(sigma, estimated);
     diagnostics.solve_seconds = prepared.start.elapsed().as_secs_f64();
     Ok(Estimate {
         method: method.name(),

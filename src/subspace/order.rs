@@ -19,7 +19,8 @@
 //!
 //! For exact data the noise eigenvalues are rounding errors and the criteria have nothing to weigh:
 //! use the numerical rank, the number of singular values above `rel_tol · s_1` (see
-//! [`DEFAULT_RANK_TOLERANCE`] for the choice of `rel_tol`). The default [`OrderSelection::Auto`] does
+//! [`DEFAULT_RANK_TOLERANCE`] for the choice of `rel_tol`; the rule and the exact-data test live in
+//! the kernel layer, shared with the noise-level estimate). The default [`OrderSelection::Auto`] does
 //! so by itself when the singular values of the full-window Hankel matrix reach rounding level, and
 //! uses MDL otherwise.
 //!
@@ -30,18 +31,8 @@
 //! criteria's derivation assume.
 
 use crate::error::{Error, Result};
-use serde::Serialize;
-use std::fmt;
-
-/// Default relative threshold of the numerical rank, `s_i > 1e-10 · s_1`.
-///
-/// Why this value: for exact data written in double precision, the singular values of the Hankel matrix
-/// beyond the true rank are rounding errors, of order `ε · s_1` times a modest factor in `N` (the data's
-/// own rounding plus the backward error of the SVD, `ε ≈ 2.2e-16`; at most 4.3e-15 · s_1 on the
-/// noiseless reference cases of the test suite). A threshold of `1e-10` sits more than four orders of
-/// magnitude above that floor and still counts signal singular values down to `1e-10 · s_1`, i.e.
-/// spikes far closer than the Rayleigh length (four spikes `0.3/fc` apart give `s_4/s_1 ≈ 1e-3`).
-pub const DEFAULT_RANK_TOLERANCE: f64 = 1e-10;
+pub use crate::estimator::{ModelOrder, OrderMethod};
+use crate::kernels::rank::DEFAULT_RANK_TOLERANCE;
 
 /// How the model order is chosen (a setting of every subspace estimator).
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -96,63 +87,6 @@ impl OrderSelection {
     }
 }
 
-/// True when the singular values `sv` (non-increasing) end at rounding level: the last one is at most
-/// `DEFAULT_RANK_TOLERANCE · s_1` (or all are zero), i.e. the data are exact (see
-/// [`DEFAULT_RANK_TOLERANCE`]).
-pub(crate) fn looks_exact(sv: &[f64]) -> bool {
-    match (sv.first(), sv.last()) {
-        (Some(&top), Some(&last)) => top <= 0.0 || last <= DEFAULT_RANK_TOLERANCE * top,
-        _ => true,
-    }
-}
-
-/// How a model order was obtained.
-///
-/// ```
-/// use finespike::subspace::OrderMethod;
-/// assert_eq!(OrderMethod::Mdl.to_string(), "MDL");
-/// ```
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
-#[non_exhaustive]
-pub enum OrderMethod {
-    /// Given in the settings.
-    Given,
-    /// Minimum description length (Wax & Kailath 1985).
-    Mdl,
-    /// Akaike's information criterion (Wax & Kailath 1985).
-    Aic,
-    /// Numerical rank of the Hankel data matrix.
-    NumericalRank,
-}
-
-impl fmt::Display for OrderMethod {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(match self {
-            OrderMethod::Given => "given",
-            OrderMethod::Mdl => "MDL",
-            OrderMethod::Aic => "AIC",
-            OrderMethod::NumericalRank => "numerical rank",
-        })
-    }
-}
-
-/// The model order an estimate used, and how it was chosen (reported in
-/// [`Diagnostics::model_order`](crate::Diagnostics::model_order)).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-pub struct ModelOrder {
-    /// Number of spikes.
-    pub order: usize,
-    /// How the number was obtained.
-    pub method: OrderMethod,
-}
-
-impl fmt::Display for ModelOrder {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "{} ({})", self.order, self.method)
-    }
-}
-
 /// The log-likelihood term `L(k) = n (p − k) log(a(k)/g(k))` for every `k = 0..p`, from the covariance
 /// eigenvalues `λ` (sorted non-increasing, `p = λ.len()`).
 ///
@@ -202,19 +136,6 @@ pub fn aic(lambda: &[f64], snapshots: usize, kmax: usize) -> usize {
     argmin(&terms, kmax, |k| 2.0 * k * (2.0 * p - k))
 }
 
-/// Numerical rank: the number of `singular_values` (non-increasing) above `rel_tol · s_1`, at most `kmax`.
-pub fn numerical_rank(singular_values: &[f64], rel_tol: f64, kmax: usize) -> usize {
-    let top = singular_values.first().copied().unwrap_or(0.0);
-    if top <= 0.0 {
-        return 0;
-    }
-    singular_values
-        .iter()
-        .take_while(|&&s| s > rel_tol * top)
-        .count()
-        .min(kmax)
-}
-
 fn argmin(terms: &[f64], kmax: usize, penalty: impl Fn(f64) -> f64) -> usize {
     let mut best = 0;
     let mut best_value = f64::INFINITY;
@@ -253,8 +174,6 @@ mod tests {
     fn exact_zeros_do_not_produce_nan() {
         let lambda = [4.0, 1.0, 0.0, 0.0, 0.0];
         assert_eq!(mdl(&lambda, 10, 4), 2);
-        assert_eq!(numerical_rank(&[2.0, 1.0, 1e-17, 0.0], 1e-10, 3), 2);
-        assert_eq!(numerical_rank(&[0.0, 0.0], 1e-10, 3), 0);
     }
 
     #[test]
@@ -264,9 +183,6 @@ mod tests {
             .validated()
             .is_err());
         assert!(OrderSelection::numerical_rank().validated().is_ok());
-        assert!(looks_exact(&[1.0, 0.5, 1e-15]));
-        assert!(!looks_exact(&[1.0, 0.5, 1e-6]));
-        assert!(looks_exact(&[0.0, 0.0]));
         assert_eq!(OrderMethod::NumericalRank.to_string(), "numerical rank");
     }
 }
