@@ -110,6 +110,9 @@ struct Blasso {
     scan: Scan,
 }
 
+/// Peaks of `|η|` above `1 + ε` and at least this fraction of the highest one enter together.
+const ADD_RATIO: f64 = 0.5;
+
 /// Positions closer than this many `1/L` are merged during sliding (two BLASSO spikes that close are
 /// one spike split by rounding).
 const MERGE_FC: f64 = 1e-3;
@@ -161,7 +164,7 @@ fn blasso(
         }
         let (c, _) = dual_of(model, point, lambda);
         let eps = tolerance.max(rounding_floor(model, point, lambda));
-        let sc = scan_above(model, &c, &point.tau, 1.0 + eps);
+        let sc = scan_above(model, &c, &point.tau, 1.0 + eps, ADD_RATIO);
         let phases_ok = sc
             .on_support
             .iter()
@@ -207,7 +210,11 @@ fn blasso(
                 // peak at least half as high: several spikes per iteration when many are missing,
                 // which saves whole slides; a peak that is not needed gets a zero amplitude from the
                 // LASSO and is removed. The stopping test is unchanged.
-                for q in sc.peaks_off.iter().filter(|q| q.modulus >= 0.5 * p.modulus) {
+                for q in sc
+                    .peaks_off
+                    .iter()
+                    .filter(|q| q.modulus >= ADD_RATIO * p.modulus)
+                {
                     point.tau.push(q.position);
                     point.amp.push(Complex64::new(0.0, 0.0));
                 }
