@@ -8,6 +8,7 @@
 //! cargo run --release --example large_scale -- ast 16384        # N time samples, 5 lines 3/N apart, 30 dB
 //! cargo run --release --example large_scale -- interior-point 32 # sdp through clarabel: time, peak memory
 //! cargo run --release --example large_scale -- sliding 512       # sdp through Sliding Frank–Wolfe
+//! cargo run --release --example large_scale -- sliding 4096 1024 # a dense scene: 1024 spikes 2/fc apart
 //! ```
 //!
 //! Run under `/usr/bin/time -v` for the peak memory (maximum resident set size).
@@ -103,7 +104,11 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             } else {
                 Backend::InteriorPoint
             };
-            let count = (size / 4).clamp(1, 128);
+            // A third argument overrides the spike count (dense scenes: fc/4 spikes at any fc).
+            let count: usize = match args.get(3) {
+                Some(c) => c.parse()?,
+                None => (size / 4).clamp(1, 128),
+            };
             let sample = Scenario::new(size, count)
                 .with_separation(2.0)
                 .with_seed(11)
