@@ -5,11 +5,14 @@
 //! cargo run --release --example large_scale -- sfw 512         # exact data, fc = 512, 10 spikes
 //! cargo run --release --example large_scale -- sfw-noisy 4096   # 30 dB, constrained TV
 //! cargo run --release --example large_scale -- greedy 4096      # N = 4096 time samples, 20 lines, 30 dB
+//! cargo run --release --example large_scale -- ast 16384        # N time samples, 5 lines 3/N apart, 30 dB
 //! cargo run --release --example large_scale -- interior-point 32 # sdp through clarabel: time, peak memory
 //! cargo run --release --example large_scale -- sliding 512       # sdp through Sliding Frank–Wolfe
+//! cargo run --release --example large_scale -- sliding 4096 1024 # a dense scene: 1024 spikes 2/fc apart
 //! ```
 //!
 //! Run under `/usr/bin/time -v` for the peak memory (maximum resident set size).
+use finespike::Ast;
 use finespike::Greedy;
 use finespike::Sfw;
 use finespike::{Backend, Estimator, Scenario, Tv, TvSettings};
@@ -72,6 +75,26 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 e.spikes.len()
             );
         }
+        "ast" => {
+            let count: usize = args.get(3).map(|s| s.parse()).transpose()?.unwrap_or(5);
+            // An invented record: `size` time samples, `count` lines 3/N apart, 30 dB, σ given.
+            let scene = Scenario::time_record(size, count)
+                .with_separation(3.0)
+                .with_snr_db(30.0)
+                .with_seed(5)
+                .generate()?;
+            let t = Instant::now();
+            let e = Ast::with_sigma(scene.sigma).estimate(&scene.data)?;
+            println!(
+                "ast N = {size}, {count} lines, 30 dB: {:.3} s, peak {} MB, status {}, {} spikes, {} iterations, {:?}",
+                t.elapsed().as_secs_f64(),
+                peak_memory_mb().map_or("n/a".to_string(), |m| format!("{m:.0}")),
+                e.status,
+                e.spikes.len(),
+                e.diagnostics.iterations,
+                e.diagnostics.certificate
+            );
+        }
         "interior-point" | "sliding" => {
             // One backend of `sdp` on the scene of benches/recovery.rs (fc/4 spikes, at least one and
             // at most 128, 2/fc apart, exact data): wall-clock and the peak resident memory of this
@@ -81,7 +104,11 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             } else {
                 Backend::InteriorPoint
             };
-            let count = (size / 4).clamp(1, 128);
+            // A third argument overrides the spike count (dense scenes: fc/4 spikes at any fc).
+            let count: usize = match args.get(3) {
+                Some(c) => c.parse()?,
+                None => (size / 4).clamp(1, 128),
+            };
             let sample = Scenario::new(size, count)
                 .with_separation(2.0)
                 .with_seed(11)
@@ -100,7 +127,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         }
         other => {
             return Err(format!(
-                "unknown mode {other}: use sfw, sfw-noisy, greedy, interior-point or sliding"
+                "unknown mode {other}: use sfw, sfw-noisy, greedy, ast, interior-point or sliding"
             )
             .into())
         }

@@ -656,3 +656,29 @@ fn interior_point_refuses_long_bands_before_allocating() {
     assert_eq!(est.status, Status::Solved);
     assert_eq!(est.spikes.len(), 3);
 }
+
+/// A noise level given far too low on a record of noise alone: the constrained solve would fit the
+/// noise with ever more spikes. It must stop with a status that is not `solved` (the support guard
+/// of the sliding solver) instead of running on. Invented scene: seeded noise only.
+#[test]
+fn noise_fitting_is_not_called_solved() {
+    use num_complex::Complex64;
+    use rand::rngs::StdRng;
+    use rand::{Rng, SeedableRng};
+    use rand_distr::StandardNormal;
+    let n = 48usize;
+    let mut rng = StdRng::seed_from_u64(3);
+    let y: Vec<Complex64> = (0..n)
+        .map(|_| {
+            let (re, im): (f64, f64) = (rng.sample(StandardNormal), rng.sample(StandardNormal));
+            Complex64::new(re, im)
+        })
+        .collect();
+    let data = Measurements::from_time_samples(&y).unwrap();
+    // σ a thousand times below the truth: the noise ball is far smaller than the noise.
+    let est = Sfw::with_sigma(1e-3).estimate(&data).unwrap();
+    // The support guard of the sliding solver stops it once the support would pass 2N/3 = 32
+    // spikes (3 real unknowns per spike against 2 per sample).
+    assert_ne!(est.status, Status::Solved, "{} spikes", est.spikes.len());
+    assert!(est.spikes.len() <= 2 * n / 3, "{} spikes", est.spikes.len());
+}

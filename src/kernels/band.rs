@@ -28,6 +28,10 @@ use std::sync::Arc;
 /// Largest FFT grid (points) a model may plan: 2^26 complex values, 1 GiB.
 pub(crate) const MAX_GRID: usize = 1 << 26;
 
+/// Supports from this many spikes on take their Gram entries in closed form on a contiguous band
+/// ([`Model::grams`]); below it the `O(s²|K|)` products are cheap and kept.
+pub(crate) const CLOSED_FORM_GRAM: usize = 16;
+
 /// Re-anchoring period of the exponential recurrence.
 pub(crate) const ANCHOR: usize = 32;
 
@@ -206,9 +210,29 @@ impl Model {
     }
 
     /// Gram-type sums `G_p = Eᴴ diag(k'^p) E` for `p = 0, …, orders − 1` (`orders` ≤ 3):
-    /// `(G_p)_{jl} = D_p(τ_l − τ_j)` with `D_p(t) = Σ_{k∈K} k'^p exp(i2πk't)`.
-    pub fn grams(&self, e: &Mat<c64>, orders: usize) -> Vec<Mat<c64>> {
+    /// `(G_p)_{jl} = D_p(τ_l − τ_j)` with `D_p(t) = Σ_{k∈K} k'^p exp(i2πk't)`; `e` is the atom
+    /// matrix of `tau`.
+    ///
+    /// A contiguous band with at least [`CLOSED_FORM_GRAM`] spikes takes the entries in closed form
+    /// ([`Model::kernel_sums`], `O(s²)`), a measured set with gaps or a small support the products
+    /// `EᴴE` (`O(s²|K|)`).
+    pub fn grams(&self, tau: &[f64], e: &Mat<c64>, orders: usize) -> Vec<Mat<c64>> {
         let (m, s) = (e.nrows(), e.ncols());
+        let orders = orders.min(3);
+        if self.is_contiguous() && s >= CLOSED_FORM_GRAM {
+            let mut g: Vec<Mat<c64>> = (0..orders).map(|_| Mat::<c64>::zeros(s, s)).collect();
+            for j in 0..s {
+                for l in j..s {
+                    let d = self.kernel_sums(tau[l] - tau[j]);
+                    for (p, gp) in g.iter_mut().enumerate() {
+                        gp[(j, l)] = d[p];
+                        // D_p(−t) = conj(D_p(t)) (k'^p real).
+                        gp[(l, j)] = d[p].conj();
+                    }
+                }
+            }
+            return g;
+        }
         let product = |w: MatRef<'_, c64>| {
             let mut g = Mat::<c64>::zeros(s, s);
             matmul_with_conj(
@@ -223,7 +247,7 @@ impl Model {
             );
             g
         };
-        (0..orders.min(3))
+        (0..orders)
             .map(|p| match p {
                 0 => product(e.as_ref()),
                 1 => product(Mat::<c64>::from_fn(m, s, |i, j| e[(i, j)] * self.kf[i]).as_ref()),
@@ -233,6 +257,74 @@ impl Model {
                 ),
             })
             .collect()
+    }
+
+    /// True when `K` is the whole band `kmin..=kmax` (no gaps).
+    pub fn is_contiguous(&self) -> bool {
+        self.len() == self.band_len()
+    }
+
+    /// `[D_0(t), D_1(t), D_2(t)]`, `D_p(t) = Σ_{k'=a}^{b} k'^p exp(i2πk't)`, for a contiguous band
+    /// `a..=b` in `O(1)`.
+    ///
+    /// With `x = 2πt`, `c = (a + b)/2`, `n = b − a + 1` and the Dirichlet kernel
+    /// `S(x) = sin(nx/2)/sin(x/2)` (the geometric sum; e.g. Zygmund, *Trigonometric Series*, ch. II),
+    /// `D_0 = e^{icx}S`, and since `D_1 = −i dD_0/dx`, `D_2 = −d²D_0/dx²`:
+    /// `D_1 = e^{icx}(cS − iS')`, `D_2 = e^{icx}(c²S − 2icS' − S'')`, where, with `u = x/2`,
+    /// `dS/du = (n cos nu − S cos u)/sin u` and `d²S/du² = (1 − n²)S − 2 cot(u) dS/du` (from
+    /// `f = sin nu`, `g = sin u`, `f'' = −n²f`, `g'' = −g` in the quotient rule; derived for this
+    /// crate, checked against direct sums in the tests). The quotients lose accuracy as `nu → 0`
+    /// (relative error about `3ε/(nu)²`), so for `|nu| < 0.1` the sums are taken directly
+    /// (`O(|K|)`; only spikes closer than `0.03/N` get there), and at `t = 0` exactly.
+    /// Only called for contiguous bands.
+    pub fn kernel_sums(&self, t: f64) -> [Complex64; 3] {
+        let a = self.kf[0];
+        let b = self.kf[self.kf.len() - 1];
+        let n = b - a + 1.0;
+        let c = 0.5 * (a + b);
+        let tr = t - t.round();
+        let u = PI * tr;
+        if (n * u).abs() < 0.1 {
+            if tr == 0.0 {
+                // Σk = nc, Σk² = Σ(k − c)² + nc² = n(n² − 1)/12 + nc².
+                return [
+                    Complex64::new(n, 0.0),
+                    Complex64::new(n * c, 0.0),
+                    Complex64::new(n * (n * n - 1.0) / 12.0 + n * c * c, 0.0),
+                ];
+            }
+            let zero = Complex64::new(0.0, 0.0);
+            let mut out = [zero; 3];
+            let mut col = vec![zero; self.len()];
+            self.exp_column(tr, &mut col);
+            for (z, &k) in col.iter().zip(&self.kf) {
+                out[0] += z;
+                out[1] += z * k;
+                out[2] += z * (k * k);
+            }
+            return out;
+        }
+        // sin(nu) with the phase n·t reduced modulo 2 first (n·t is large for long bands).
+        let nt = n * tr;
+        let f = (PI * (nt - 2.0 * (0.5 * nt).round())).sin();
+        let fc = (PI * (nt - 2.0 * (0.5 * nt).round())).cos();
+        let (su, cu) = u.sin_cos();
+        let s0 = f / su;
+        let s1u = (n * fc - s0 * cu) / su;
+        let s2u = (1.0 - n * n) * s0 - 2.0 * (cu / su) * s1u;
+        // d/dx = ½ d/du.
+        let s1 = 0.5 * s1u;
+        let s2 = 0.25 * s2u;
+        // e^{icx} = exp(iπ(a + b)t), a + b an integer: phase reduced modulo 2.
+        let ab = a + b;
+        let ph = ab * tr;
+        let w = Complex64::from_polar(1.0, PI * (ph - 2.0 * (0.5 * ph).round()));
+        let i = Complex64::new(0.0, 1.0);
+        [
+            w * s0,
+            w * (c * s0 - i * s1),
+            w * (c * c * s0 - 2.0 * i * c * s1 - s2),
+        ]
     }
 
     /// `(q(t), q'(t), q''(t))` for `q(t) = Σ_k c_k exp(i2πk't)`, by direct sums in `O(|K|)`.
@@ -402,7 +494,7 @@ mod tests {
         let model = Model::new(&d, 4).unwrap();
         let tau = [0.1, 0.47, 0.9];
         let e = model.atoms(&tau);
-        let g = model.grams(&e, 3);
+        let g = model.grams(&tau, &e, 3);
         for (p, gp) in g.iter().enumerate() {
             for j in 0..3 {
                 for l in 0..3 {
@@ -412,6 +504,69 @@ mod tests {
                         .map(|&k| cis(k, tau[l] - tau[j]) * (k as f64).powi(p as i32))
                         .sum();
                     assert!((gp[(j, l)] - direct).norm() < 1e-11, "p {p} ({j},{l})");
+                }
+            }
+        }
+    }
+
+    /// Closed-form kernel sums against direct sums on contiguous bands (odd and even length, one-sided),
+    /// from far apart down to below the switch to direct sums, and the closed-form Gram path of
+    /// [`Model::grams`] against the products.
+    #[test]
+    fn kernel_sums_match_direct_sums() {
+        for (kmin, kmax) in [(-40, 40), (-63, 0), (0, 1000), (-5000, 4999)] {
+            let idx: Vec<i64> = (kmin..=kmax).collect();
+            let (d, _) = data(kmin, kmax, &idx);
+            let model = Model::new(&d, 8).unwrap();
+            let n = (kmax - kmin + 1) as f64;
+            for t in [
+                0.0,
+                1e-9,
+                0.02 / n,
+                0.05 / n,
+                0.2 / n,
+                1.3 / n,
+                0.123,
+                0.5,
+                0.77,
+                -0.31,
+                2.4,
+            ] {
+                let got = model.kernel_sums(t);
+                for (p, g) in got.iter().enumerate() {
+                    let direct: Complex64 = model
+                        .ks
+                        .iter()
+                        .map(|&k| cis(k, t) * (k as f64).powi(p as i32))
+                        .sum();
+                    // Entries are compared with the scale of the diagonal, Σ|k'|^p (rounding of
+                    // the direct sum and of the phase n·t both scale with it).
+                    let scale: f64 = model.kf.iter().map(|k| k.abs().powi(p as i32)).sum();
+                    assert!(
+                        (g - direct).norm() <= 1e-11 * scale,
+                        "band {kmin}..{kmax} t {t} p {p}: {g} vs {direct}"
+                    );
+                }
+            }
+        }
+        let idx: Vec<i64> = (-200..=200).collect();
+        let (d, _) = data(-200, 200, &idx);
+        let model = Model::new(&d, 8).unwrap();
+        let tau: Vec<f64> = (0..CLOSED_FORM_GRAM + 3)
+            .map(|j| 0.01 + j as f64 * 0.047)
+            .collect();
+        let e = model.atoms(&tau);
+        let closed = model.grams(&tau, &e, 3);
+        for (p, gp) in closed.iter().enumerate() {
+            for j in 0..tau.len() {
+                for l in 0..tau.len() {
+                    let direct: Complex64 = model
+                        .ks
+                        .iter()
+                        .map(|&k| cis(k, tau[l] - tau[j]) * (k as f64).powi(p as i32))
+                        .sum();
+                    let scale: f64 = model.kf.iter().map(|k| k.abs().powi(p as i32)).sum();
+                    assert!((gp[(j, l)] - direct).norm() <= 1e-12 * scale);
                 }
             }
         }

@@ -36,8 +36,8 @@ pub(crate) struct Scan {
     pub best_any: Option<Peak>,
     /// `q(τ_j)` at the support points, in their order.
     pub on_support: Vec<Complex64>,
-    /// Every off-support local maximum with `|q| ≥` the level asked for ([`scan_above`]), polished,
-    /// largest first.
+    /// Every off-support local maximum with `|q| ≥ max(level, relative · max_off_support)` for the
+    /// `level` and `relative` asked for ([`scan_above`]), polished, largest first.
     pub peaks_off: Vec<Peak>,
 }
 
@@ -146,11 +146,25 @@ fn near(sorted: &[f64], t: f64, tol: f64) -> bool {
 /// Scan `|q|` for `q(t) = Σ_{k'} c_k exp(i2πk't)` (centred coefficients on `K`) against `support`
 /// (see the module docs).
 pub(crate) fn scan(model: &Model, c: &[Complex64], support: &[f64]) -> Scan {
-    scan_above(model, c, support, f64::INFINITY)
+    scan_above(model, c, support, f64::INFINITY, 0.0)
 }
 
-/// [`scan`], also collecting every off-support local maximum with `|q| ≥ level`.
-pub(crate) fn scan_above(model: &Model, c: &[Complex64], support: &[f64], level: f64) -> Scan {
+/// [`scan`], also collecting every off-support local maximum with
+/// `|q| ≥ max(level, relative · max_off_support)`.
+///
+/// The relative floor is what keeps the scan cheap when `|q|` is far above `level` (the first
+/// iterations of Sliding Frank–Wolfe, when `η = F*y/λ` has every sidelobe of every strong line above
+/// 1): a grid maximum whose Bernstein bound stays below `relative` times the best off-support value
+/// polished so far cannot reach the final floor either (that value only grows), so it is skipped
+/// without changing the result; without it, every one of the thousands of sidelobes above `level`
+/// would be polished at `O(|K|)` per Newton step.
+pub(crate) fn scan_above(
+    model: &Model,
+    c: &[Complex64],
+    support: &[f64],
+    level: f64,
+    relative: f64,
+) -> Scan {
     let on_support: Vec<Complex64> = support.iter().map(|&t| model.eval(c, t)[0]).collect();
     let vals = model.grid(c);
     let m = vals.len();
@@ -180,7 +194,9 @@ pub(crate) fn scan_above(model: &Model, c: &[Complex64], support: &[f64], level:
     for &(gj, j) in &cands {
         let off_floor = best_off.map_or(f64::NEG_INFINITY, |p| p.modulus * p.modulus);
         let any_floor = max_modulus * max_modulus;
-        if gj + slack < off_floor.min(any_floor).min(level_sq) {
+        let rel = relative * best_off.map_or(0.0, |p| p.modulus);
+        let collect_floor = level_sq.max(rel * rel);
+        if gj + slack < off_floor.min(any_floor).min(collect_floor) {
             break;
         }
         let p = polish(model, c, j as f64 * h, h);
@@ -201,6 +217,8 @@ pub(crate) fn scan_above(model: &Model, c: &[Complex64], support: &[f64], level:
             peaks_off.push(p);
         }
     }
+    let rel = relative * best_off.map_or(0.0, |p| p.modulus);
+    peaks_off.retain(|p| p.modulus >= rel);
     peaks_off.sort_by(|a, b| b.modulus.total_cmp(&a.modulus));
     Scan {
         max_modulus,

@@ -134,7 +134,7 @@ pub(crate) fn local(model: &Model, point: &Point, lambda: f64, positions: bool) 
     let r = model.residual(&e, &point.amp);
     let f = 0.5 * r.iter().map(|z| z.norm_sqr()).sum::<f64>() + lambda * point.l1();
     let [p0, p1, p2] = model.correlate(&e, &r);
-    let g = model.grams(&e, if positions { 3 } else { 1 });
+    let g = model.grams(&point.tau, &e, if positions { 3 } else { 1 });
     let a = &point.amp;
     let n = 3 * s;
     let mut grad = vec![0.0; n];

@@ -11,7 +11,7 @@
 
 use crate::kernels::band::Model;
 use faer::linalg::solvers::Solve;
-use faer::{c64, Mat, Side};
+use faer::{Mat, Side};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -50,8 +50,8 @@ pub(crate) fn projected_dual(
 /// `q(τ_j) = signs_j` (two real conditions each) and either `q'(τ_j) = 0` (`full_derivative`, two) or
 /// `Re(conj(signs_j) q'(τ_j)) = 0` (one). Each condition is `Re⟨w_u, c⟩ = b_u` with
 /// `⟨w, c⟩ = Σ_k conj(w_k) c_k`; the solution is `c = c₀ + Σ_u x_u w_u` with `Re(WᴴW) x = b − ℓ(c₀)`
-/// (the real Gram system of the representers `w_u`, derivative rows scaled by `1/(2πL)`), solved by
-/// Cholesky (faer). The conditions are checked on the result.
+/// (the real Gram system of the representers `w_u`, derivative rows scaled by `1/(2πL)`, its entries
+/// from the kernel sums `D_p`), solved by Cholesky (faer). The conditions are checked on the result.
 fn interpolate(
     model: &Model,
     tau: &[f64],
@@ -74,18 +74,19 @@ fn interpolate(
     //   r = 2: Re(conj(v) q'(τ_j))/(2πL)        w_k = v (−i k/L) conj(E_kj)  (v = 1 with full_derivative)
     //   r = 3: Im q'(τ_j)/(2πL) = Re(−i q')/(2πL)  w_k = i (−i k/L) conj(E_kj) = (k/L) conj(E_kj)
     let n = per * s;
-    let w = Mat::<c64>::from_fn(m, n, |k, u| {
+    // Representer u = per·j + r is w_k = α_u (k/L)^{p_u} conj(E_kj) with (α, p) below, so
+    // (WᴴW)_{uv} = conj(α_u) α_v L^{−(p_u+p_v)} D_{p_u+p_v}(τ_{j_u} − τ_{j_v}): the Gram sums of
+    // [`Model::grams`] (closed form on a contiguous band), never the |K| × 4s matrix W itself.
+    let alpha = |u: usize| -> (Complex64, i32) {
         let (j, r) = (u / per, u % per);
-        let base = e[(k, j)].conj();
-        let kl = model.kf[k] / l;
         match r {
-            0 => base,
-            1 => i * base,
-            2 if full_derivative => -i * kl * base,
-            2 => signs[j] * (-i * kl) * base,
-            _ => kl * base,
+            0 => (Complex64::new(1.0, 0.0), 0),
+            1 => (i, 0),
+            2 if full_derivative => (-i, 1),
+            2 => (signs[j] * (-i), 1),
+            _ => (Complex64::new(1.0, 0.0), 1),
         }
-    });
+    };
     let target: Vec<f64> = (0..n)
         .map(|u| match u % per {
             0 => signs[u / per].re,
@@ -93,27 +94,47 @@ fn interpolate(
             _ => 0.0,
         })
         .collect();
+    // ℓ_u(c₀) = Re(conj(α_u) L^{−p_u} Σ_k k^{p_u} E_kj c₀_k); `correlate` gives Σ_k (i2πk)^p E_kj c₀_k.
+    let [p0, p1, _] = model.correlate(&e, c0);
+    let d = Complex64::new(0.0, 2.0 * PI);
     let current: Vec<f64> = (0..n)
-        .map(|u| (0..m).map(|k| (w[(k, u)].conj() * c0[k]).re).sum::<f64>())
+        .map(|u| {
+            let (a, p) = alpha(u);
+            let sum = if p == 0 {
+                p0[u / per]
+            } else {
+                p1[u / per] / d / l
+            };
+            (a.conj() * sum).re
+        })
         .collect();
-    let mut gram = Mat::<c64>::zeros(n, n);
-    faer::linalg::matmul::matmul_with_conj(
-        gram.as_mut(),
-        faer::Accum::Replace,
-        w.transpose(),
-        faer::Conj::Yes,
-        w.as_ref(),
-        faer::Conj::No,
-        c64::new(1.0, 0.0),
-        faer::Par::Seq,
-    );
-    let real = Mat::<f64>::from_fn(n, n, |a, b| gram[(a, b)].re);
+    let g = model.grams(tau, &e, 3);
+    let real = Mat::<f64>::from_fn(n, n, |u, v| {
+        let ((au, pu), (av, pv)) = (alpha(u), alpha(v));
+        let pp = (pu + pv) as usize;
+        let dsum = g[pp][(v / per, u / per)];
+        (au.conj() * av * dsum).re / l.powi(pu + pv)
+    });
     let llt = real.llt(Side::Lower).ok()?;
     let rhs = Mat::<f64>::from_fn(n, 1, |u, _| target[u] - current[u]);
     let x = llt.solve(&rhs);
-    let c: Vec<Complex64> = (0..m)
-        .map(|k| c0[k] + (0..n).map(|u| w[(k, u)] * x[(u, 0)]).sum::<Complex64>())
-        .collect();
+    // c_k = c₀_k + Σ_j conj(E_kj)(β_j + (k/L) γ_j), β_j and γ_j gathering the x_u of spike j.
+    let mut beta = vec![Complex64::new(0.0, 0.0); s];
+    let mut gamma = vec![Complex64::new(0.0, 0.0); s];
+    for u in 0..n {
+        let (a, p) = alpha(u);
+        if p == 0 {
+            beta[u / per] += a * x[(u, 0)];
+        } else {
+            gamma[u / per] += a * x[(u, 0)] / l;
+        }
+    }
+    let mut c: Vec<Complex64> = c0.to_vec();
+    for j in 0..s {
+        for (k, ck) in c.iter_mut().enumerate() {
+            *ck += e[(k, j)].conj() * (beta[j] + gamma[j] * model.kf[k]);
+        }
+    }
     if c.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {
         return None;
     }

@@ -48,7 +48,7 @@ pub(crate) fn lasso(model: &Model, point: &mut Point, lambda: f64) -> bool {
     let e = model.atoms(&point.tau);
     // b_j = Σ_k y_k exp(i2πkτ_j) and G_{jl} = D_0(τ_j − τ_l) = conj((EᴴE)_{jl}).
     let [b, _, _] = model.correlate(&e, &model.y);
-    let g = model.grams(&e, 1);
+    let g = model.grams(&point.tau, &e, 1);
     let gram = |j: usize, l: usize| g[0][(j, l)].conj();
     let diag = model.len() as f64;
     for _round in 0..8 {

@@ -13,6 +13,13 @@
 //! When the certificate can only be checked at the rounding level of `η` (very small λ: `η = r/λ`
 //! amplifies the rounding of `r`), a certified solve reports [`Status::ReducedAccuracy`].
 //!
+//! **Support guard.** A spike carries 3 real unknowns (position, real and imaginary amplitude) and the
+//! data `2|K|` real values, so a support of more than `2|K|/3` spikes cannot be determined by the data:
+//! it only arises when the solve is fitting the noise (a noise level given far too low, a weight far
+//! too small), and each further iteration would cost more than the last. When an iteration would
+//! grow the support past that count, the solve stops with [`Status::NumericalFailure`] and the
+//! uncertified point reached so far, instead of running on for minutes.
+//!
 //! **Exact data**: continuation `λ_{i+1} = λ_i/10` from `λ_0 = 0.1‖F*y‖∞`, warm started; after each level
 //! the support is fitted by least squares on the exact model (zero residual) and checked with the
 //! vanishing-derivative pre-certificate ([`super::certificate::vanishing_derivative`]) and, if that
@@ -110,6 +117,15 @@ struct Blasso {
     scan: Scan,
 }
 
+/// Largest support a solve may grow to: `⌊2|K|/3⌋` spikes, the number whose `3s` real unknowns
+/// (position, real and imaginary amplitude) the `2|K|` real data values can still determine.
+fn support_cap(model: &Model) -> usize {
+    2 * model.len() / 3
+}
+
+/// Peaks of `|η|` above `1 + ε` and at least this fraction of the highest one enter together.
+const ADD_RATIO: f64 = 0.5;
+
 /// Positions closer than this many `1/L` are merged during sliding (two BLASSO spikes that close are
 /// one spike split by rounding).
 const MERGE_FC: f64 = 1e-3;
@@ -161,7 +177,7 @@ fn blasso(
         }
         let (c, _) = dual_of(model, point, lambda);
         let eps = tolerance.max(rounding_floor(model, point, lambda));
-        let sc = scan_above(model, &c, &point.tau, 1.0 + eps);
+        let sc = scan_above(model, &c, &point.tau, 1.0 + eps, ADD_RATIO);
         let phases_ok = sc
             .on_support
             .iter()
@@ -207,8 +223,25 @@ fn blasso(
                 // peak at least half as high: several spikes per iteration when many are missing,
                 // which saves whole slides; a peak that is not needed gets a zero amplitude from the
                 // LASSO and is removed. The stopping test is unchanged.
-                for q in sc.peaks_off.iter().filter(|q| q.modulus >= 0.5 * p.modulus) {
-                    point.tau.push(q.position);
+                let adding: Vec<f64> = sc
+                    .peaks_off
+                    .iter()
+                    .filter(|q| q.modulus >= ADD_RATIO * p.modulus)
+                    .map(|q| q.position)
+                    .collect();
+                if point.len() + adding.len() > support_cap(model) {
+                    // More spikes than the data can determine (module docs): stop instead of
+                    // running the LASSO and the slide on an ever larger support.
+                    return Blasso {
+                        certified: false,
+                        rounding_limited: eps > tolerance,
+                        halt: Some(Status::NumericalFailure),
+                        c,
+                        scan: sc,
+                    };
+                }
+                for t in adding {
+                    point.tau.push(t);
                     point.amp.push(Complex64::new(0.0, 0.0));
                 }
                 last_added = Some(p.position);
