@@ -32,6 +32,7 @@
 #![warn(missing_docs)]
 
 pub mod amplitudes;
+pub mod batch;
 pub mod bounds;
 pub mod continuous;
 pub mod dual;
@@ -39,6 +40,7 @@ pub mod error;
 pub mod estimator;
 pub mod greedy;
 pub mod grid;
+pub mod interop;
 pub mod io;
 mod kernels;
 pub mod metrics;
@@ -55,6 +57,12 @@ pub mod sweep;
 #[cfg(feature = "pure-lapack")]
 extern crate finespike_lapack;
 
+/// The complex-number crate of the public API, so that a first program needs no other dependency.
+pub use num_complex;
+/// The complex type of every amplitude and sample.
+pub use num_complex::Complex64;
+
+pub use batch::{estimate_batch, estimate_batch_with_progress};
 pub use bounds::{crb, crb_for, single_tone_position_variance, Crb, SpikeBound};
 pub use continuous::{Sfw, SfwSettings};
 pub use dual::{Certificate, DualPolynomial};
