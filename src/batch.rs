@@ -37,7 +37,10 @@ use std::sync::atomic::{AtomicUsize, Ordering};
 /// Estimate every record with `estimator`, in parallel; results in input order.
 ///
 /// See the module docs for what makes the result independent of the number of threads.
-pub fn estimate_batch(estimator: &dyn Estimator, records: &[Measurements]) -> Vec<Result<Estimate>> {
+pub fn estimate_batch(
+    estimator: &dyn Estimator,
+    records: &[Measurements],
+) -> Vec<Result<Estimate>> {
     estimate_batch_with_progress(estimator, records, |_, _| {})
 }
 
