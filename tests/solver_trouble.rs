@@ -308,3 +308,34 @@ fn sdp_iteration_limit_on_the_sliding_backend() {
     let e = Tv::exact().with_settings(settings).estimate(&data).unwrap();
     assert_honest(&e, true, "sliding backend, max_iter 1");
 }
+
+#[test]
+fn values_near_the_top_of_the_f64_range_give_a_typed_answer() {
+    // A 16-sample record of a line at 0.3 cycles/sample (invented) with four samples replaced by
+    // values up to 1e254: the input on which the fuzzer found clarabel's PSD cone panicking
+    // (a failed eigendecomposition, clarabel 0.11 `expect("Eigval error")`); and a noise level of
+    // 6e166, on which its SVD panicked. Every estimator must answer Ok or a typed error.
+    let mut x: Vec<Complex64> = (0..16)
+        .map(|n| Complex64::from_polar(1.0, std::f64::consts::TAU * 0.3 * n as f64))
+        .collect();
+    x[8] = c(-1.4493446781819705e199, 3.0182879257411913e101);
+    x[9] = c(-9.805862444562786e253, 1.776895605186178e127);
+    x[10] = c(-7.789618585634485e253, 2.538409242310534e127);
+    x[11] = c(-3.25862431408258e199, 2.6902593542531038e101);
+    x[12] = c(1.04263061733144e-309, -2.6675896753474073e-260);
+    let data = Measurements::from_time_samples(&x).unwrap();
+    let mut estimators = exact_estimators();
+    for name in finespike::METHODS {
+        estimators.push(finespike::estimator_by_name(name).unwrap());
+    }
+    estimators.push(Box::new(Tv::with_sigma(6e166)));
+    estimators.push(Box::new(Ast::with_sigma(6e166)));
+    let (_, scene) = two_spikes();
+    for est in &estimators {
+        for d in [&data, &scene] {
+            if let Ok(e) = est.estimate(d) {
+                assert_honest(&e, false, "values near f64::MAX");
+            }
+        }
+    }
+}
