@@ -46,7 +46,11 @@ fn build(bytes: &[u8]) -> Option<finespike::Result<Measurements>> {
             i64::from(kind / 5 % 24),
             &indices,
             &values,
-            if kind & 0x80 != 0 { Domain::Time } else { Domain::Fourier },
+            if kind & 0x80 != 0 {
+                Domain::Time
+            } else {
+                Domain::Fourier
+            },
         ),
     })
 }
