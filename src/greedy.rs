@@ -212,6 +212,15 @@ impl Estimator for Greedy {
     fn estimate(&self, data: &Measurements) -> Result<Estimate> {
         let start = Instant::now();
         let settings = self.settings.validated()?;
+        // One complex value against three real unknowns per spike: any position fits it exactly.
+        if data.len() < 2 {
+            return Err(Error::RunTooShort {
+                method: "greedy",
+                found: data.len(),
+                needed: 2,
+                advice: "a single sample holds no position information",
+            });
+        }
         // With a requested count and no noise level, the count alone stops the fit.
         let (sigma, estimated) = match (self.count, self.noise) {
             (Some(_), NoiseLevel::Estimate) => (None, false),

@@ -38,6 +38,7 @@
 //   noise, postprocess           Hankel SVD; dual polynomial; CRB; σ; the shared post-processing
 //   tv, greedy, grid, subspace   the estimators
 //   registry, eval               methods by name; file formats, scenes, scoring and sweeps
+pub mod batch;
 mod bounds;
 mod dual;
 mod error;
@@ -45,6 +46,7 @@ mod estimator;
 pub mod eval;
 mod greedy;
 pub mod grid;
+pub mod interop;
 mod kernels;
 pub mod model;
 mod noise;
@@ -57,9 +59,12 @@ pub mod tv;
 #[cfg(feature = "pure-lapack")]
 extern crate finespike_lapack;
 
+/// The complex-number crate of the public API, so that a first program needs no other dependency.
 pub use num_complex;
+/// The complex type of every amplitude and sample.
 pub use num_complex::Complex64;
 
+pub use batch::{estimate_batch, estimate_batch_with_progress};
 pub use bounds::{crb, crb_for, single_tone_position_variance, Crb, SpikeBound};
 pub use dual::{Certificate, DualPolynomial};
 pub use error::{Error, Result};

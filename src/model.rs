@@ -231,7 +231,9 @@ impl Domain {
     pub fn user_index(self, k: i64) -> i64 {
         match self {
             Domain::Fourier => k,
-            Domain::Time => -k,
+            // Saturating: `i64::MIN` has no negation (only reachable through `in_band` with an
+            // absurd index, for an error message).
+            Domain::Time => k.saturating_neg(),
         }
     }
 }
@@ -275,11 +277,18 @@ impl Measurements {
         if fc == 0 {
             return Err(Error::ZeroCutoff);
         }
-        if values.len() != 2 * fc + 1 {
+        let Some(n) = fc.checked_mul(2).and_then(|n| n.checked_add(1)) else {
+            return Err(Error::InvalidSetting {
+                name: "fc",
+                value: fc.to_string(),
+                rule: "the band −fc..=fc must fit in 64-bit signed indices",
+            });
+        };
+        if values.len() != n {
             return Err(Error::LengthMismatch {
                 what: "values against the band −fc..=fc",
                 left: values.len(),
-                right: 2 * fc + 1,
+                right: n,
             });
         }
         let f = fc as i64;
@@ -324,6 +333,15 @@ impl Measurements {
         if tmax < 1 {
             return Err(Error::ZeroCutoff);
         }
+        // Refused here, before the sign change `k = −n` (which overflows for `i64::MIN`).
+        if let Some(&t) = times.iter().find(|&&t| t < 0) {
+            return Err(Error::IndexOutOfBand {
+                what: Domain::Time.index_words(),
+                index: t,
+                range: format!("the record 0..={tmax}"),
+                advice: "sample indices must be non-negative",
+            });
+        }
         let idx: Vec<i64> = times.iter().map(|&t| -t).collect();
         Self::in_band(-tmax, 0, &idx, samples, Domain::Time)
     }
@@ -331,7 +349,8 @@ impl Measurements {
     /// General constructor: values at distinct `indices` inside the contiguous band `kmin..=kmax`.
     ///
     /// # Errors
-    /// As [`Measurements::fourier`]; [`Error::ZeroCutoff`] if `kmax <= kmin`.
+    /// As [`Measurements::fourier`]; [`Error::ZeroCutoff`] if `kmax <= kmin`; [`Error::InvalidSetting`]
+    /// for a band of `2^63` or more indices.
     pub fn in_band(
         kmin: i64,
         kmax: i64,
@@ -341,6 +360,18 @@ impl Measurements {
     ) -> Result<Self> {
         if kmax <= kmin {
             return Err(Error::ZeroCutoff);
+        }
+        // N = kmax − kmin + 1 must be representable: `band_len`, `fc` and every estimator rely on it.
+        if kmax
+            .checked_sub(kmin)
+            .and_then(|d| d.checked_add(1))
+            .is_none()
+        {
+            return Err(Error::InvalidSetting {
+                name: "band",
+                value: format!("{kmin}..={kmax}"),
+                rule: "the band must hold fewer than 2^63 indices",
+            });
         }
         if indices.is_empty() {
             return Err(Error::Empty {
@@ -385,7 +416,7 @@ impl Measurements {
                         "raise the cutoff or drop the sample",
                     ),
                     Domain::Time => (
-                        format!("the record 0..={}", -kmin),
+                        format!("the record 0..={}", kmin.unsigned_abs()),
                         "sample indices must be non-negative",
                     ),
                 };

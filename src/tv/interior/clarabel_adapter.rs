@@ -96,7 +96,22 @@ pub(crate) fn solve(prog: &ConicProgram, settings: IpmSettings) -> Result<ConicS
             detail: e.to_string(),
         }
     })?;
-    solver.solve();
+    // clarabel 0.11 panics instead of returning an error when a factorisation inside its PSD cone
+    // fails (`expect("SVD error")` in the cone's scaling update), e.g. for a data-fit radius some
+    // hundred orders of magnitude above the data. The panic is turned into a typed error here: the
+    // library must not take the caller's process down.
+    let solved = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| solver.solve()));
+    if let Err(payload) = solved {
+        let detail = payload
+            .downcast_ref::<&str>()
+            .map(|s| s.to_string())
+            .or_else(|| payload.downcast_ref::<String>().cloned())
+            .unwrap_or_else(|| "the solver stopped on an internal error".to_string());
+        return Err(Error::Numerical {
+            step: "clarabel interior point",
+            detail,
+        });
+    }
     let sol = &solver.solution;
     Ok(ConicSolution {
         z: sol.z.clone(),
