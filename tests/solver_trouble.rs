@@ -196,9 +196,6 @@ fn a_single_sample_is_refused_or_not_called_solved() {
 }
 
 #[test]
-#[ignore = "sdp (interior point) reports Solved with no spike and residual = ‖y‖ for a single \
-            coefficient at k = 0: |q| is constant 1, the peak search of a flat |q| finds no maximum, \
-            and the exact problem's residual is not checked (src/sdp/mod.rs, finish)"]
 fn single_sample_sdp() {
     assert_single_sample_refused(&Tv::exact());
 }
@@ -301,10 +298,6 @@ fn spikes_a_tenth_of_a_rayleigh_length_apart_are_flagged() {
 }
 
 #[test]
-#[ignore = "sdp (interior point) reports Solved on exact data it fits only to 18% (amplitudes 1, i: \
-            5 spikes) and 1.7% (amplitudes 1, 1: one spike, no warning at all): the dual \
-            polynomial's peaks closer than 0.25/N are merged before the support is formed, and the \
-            exact problem's residual is not checked (src/dual.rs peaks, src/sdp/mod.rs finish)"]
 fn close_spikes_sdp() {
     assert_close_pair_honest(&Tv::exact());
 }
