@@ -26,7 +26,7 @@
 //!
 //! The singular values that choose the order (a forward Hankel matrix of at most
 //! [`SubspaceSettings::order_window`] rows) are computed once and handed to the noise-level estimate
-//! ([`crate::noise`]), which uses the same 256-row matrix from `N = 766` samples on; the exact-data
+//! ([`crate::estimate_sigma`]), which uses the same 256-row matrix from `N = 766` samples on; the exact-data
 //! test on them is the one rule of the kernel layer ([`DEFAULT_RANK_TOLERANCE`]). No step forms a
 //! matrix whose size grows like `N²`: above [`DENSE_SVD_ENTRIES`] entries the singular values come
 //! from a QR of `Hᴴ` accumulated block by block (`O(L²)` memory for `L` rows), the signal subspace
