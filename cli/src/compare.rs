@@ -261,7 +261,7 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             });
             pretty(&v)
         }
-        ReportFormat::Csv => summaries_csv(&summaries),
+        ReportFormat::Csv => sweep::to_csv(&summaries),
         ReportFormat::Text => {
             let mut out = format!(
                 "{trials} invented scenes (seeds {}..={}): {} spikes, closest pair {}/fc, {band}, {}, \
@@ -315,36 +315,6 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
     };
     print!("{text}");
     every_run_failed(summaries.iter().all(|s| s.errors == s.trials))
-}
-
-/// The summaries as CSV, one row per method: the columns of the text table, every figure in full
-/// ([`exact`]) and an empty cell where a figure does not exist.
-fn summaries_csv(summaries: &[Summary]) -> String {
-    let mut out = String::from(
-        "method,trials,true_spikes,found,missed,spurious,complete,rmse_fc,max_error_fc,rmse_over_crb,\
-         median_seconds,errors,not_converged,warned\n",
-    );
-    let cell = |v: Option<f64>| v.map_or_else(String::new, exact);
-    for s in summaries {
-        out.push_str(&format!(
-            "{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n",
-            s.method,
-            s.trials,
-            s.true_spikes,
-            s.found,
-            s.missed,
-            s.spurious,
-            s.complete,
-            cell(s.rmse_fc),
-            cell(s.max_error_fc),
-            cell(s.rmse_over_crb),
-            exact(s.median_seconds),
-            s.errors,
-            s.not_converged,
-            s.warned
-        ));
-    }
-    out
 }
 
 fn legend(noisy: bool) -> String {
@@ -406,7 +376,7 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
             "crb_sigma": crb_sigma,
             "methods": rows.iter().map(|(s, o)| json!({"summary": s, "outcome": o})).collect::<Vec<_>>(),
         })),
-        ReportFormat::Csv => summaries_csv(&summaries),
+        ReportFormat::Csv => sweep::to_csv(&summaries),
         ReportFormat::Text => {
             let sep = truth.spikes.min_separation() * data.fc();
             let mut out = format!(

@@ -44,16 +44,7 @@ pub fn sig(x: f64, digits: usize) -> String {
     }
 }
 
-/// `x` in full (the shortest text that reads back to the same `f64`), in fixed notation from 0.0001
-/// up to 10¹⁵ and with an exponent outside: for CSV and other files read by programs.
-pub fn exact(x: f64) -> String {
-    let a = x.abs();
-    if x == 0.0 || !x.is_finite() || (1e-4..1e15).contains(&a) {
-        format!("{x}")
-    } else {
-        format!("{x:e}")
-    }
-}
+pub use finespike::eval::io::exact;
 
 /// Drop trailing zeros after a decimal point, and the point itself when nothing follows it.
 fn trim_zeros(text: &str) -> String {
@@ -83,43 +74,14 @@ pub fn band(data: &Measurements) -> String {
 }
 
 /// Measurements as a sample file: `k,re,im` (Fourier coefficients, by k) or `n,re,im` (time samples,
-/// n = 0..N-1; the library stores `x_n` at `k = −n`), every value in full ([`exact`]).
+/// by n), every value in full ([`exact`]): the library's writer.
 pub fn samples_csv(data: &Measurements) -> String {
-    let mut rows: Vec<(i64, num_complex::Complex64)> = data
-        .indices()
-        .iter()
-        .copied()
-        .zip(data.values().iter().copied())
-        .collect();
-    let header = match data.domain() {
-        Domain::Fourier => "k,re,im\n",
-        Domain::Time => {
-            for row in &mut rows {
-                row.0 = -row.0;
-            }
-            rows.sort_by_key(|r| r.0);
-            "n,re,im\n"
-        }
-    };
-    let mut out = String::from(header);
-    for (i, v) in rows {
-        out.push_str(&format!("{i},{},{}\n", exact(v.re), exact(v.im)));
-    }
-    out
+    finespike::eval::io::samples_to_csv(data)
 }
 
-/// Spikes as CSV `position,re,im`, every value in full ([`exact`]).
+/// Spikes as CSV `position,re,im`, every value in full ([`exact`]): the library's writer.
 pub fn spikes_csv(spikes: &Spikes) -> String {
-    let mut out = String::from("position,re,im\n");
-    for s in spikes {
-        out.push_str(&format!(
-            "{},{},{}\n",
-            exact(s.position),
-            exact(s.amplitude.re),
-            exact(s.amplitude.im)
-        ));
-    }
-    out
+    finespike::eval::io::spikes_to_csv(spikes)
 }
 
 #[cfg(test)]

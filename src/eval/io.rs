@@ -243,23 +243,51 @@ impl LineCounter {
 /// # Errors
 /// [`Error::Parse`] when the file cannot be read (line 0) or is malformed.
 pub fn read_samples(path: &Path) -> Result<SampleRows> {
+    let (text, name) = read_text(path)?;
+    parse_samples(&text, &name)
+}
+
+/// The text of the file at `path` and its name as shown in errors; an unreadable file is
+/// [`Error::Parse`] at line 0.
+fn read_text(path: &Path) -> Result<(String, String)> {
     let name = path.display().to_string();
     let text = std::fs::read_to_string(path).map_err(|e| Error::Parse {
         source_name: name.clone(),
         line: 0,
         message: format!("cannot read the file: {e}"),
     })?;
-    parse_samples(&text, &name)
+    Ok((text, name))
 }
 
-/// Write measurements as sample CSV (`k,re,im`, or `n,re,im` for time-domain data).
+/// `x` in full (the shortest text that reads back to the same `f64`), in fixed notation from 0.0001
+/// up to 10¹⁵ and with an exponent outside (`2.38`, `16`, `2.5e-7`): how every file writer of this
+/// module prints numbers.
+///
+/// ```
+/// use finespike::eval::io::exact;
+/// assert_eq!(exact(2.38), "2.38");
+/// assert_eq!(exact(16.0), "16");
+/// assert_eq!(exact(2.5e-7), "2.5e-7");
+/// assert_eq!(exact(0.1 + 0.2).parse::<f64>().unwrap(), 0.1 + 0.2);
+/// ```
+pub fn exact(x: f64) -> String {
+    let a = x.abs();
+    if x == 0.0 || !x.is_finite() || (1e-4..1e15).contains(&a) {
+        format!("{x}")
+    } else {
+        format!("{x:e}")
+    }
+}
+
+/// Write measurements as sample CSV (`k,re,im`, or `n,re,im` for time-domain data, by `n`), every
+/// value in full ([`exact`]).
 pub fn samples_to_csv(data: &Measurements) -> String {
     let mut out = String::new();
     match data.domain() {
         Domain::Fourier => {
             out.push_str("k,re,im\n");
             for (k, v) in data.indices().iter().zip(data.values()) {
-                out.push_str(&format!("{k},{:e},{:e}\n", v.re, v.im));
+                out.push_str(&format!("{k},{},{}\n", exact(v.re), exact(v.im)));
             }
         }
         Domain::Time => {
@@ -272,7 +300,7 @@ pub fn samples_to_csv(data: &Measurements) -> String {
                 .collect();
             rows.sort_by_key(|r| r.0);
             for (n, v) in rows {
-                out.push_str(&format!("{n},{:e},{:e}\n", v.re, v.im));
+                out.push_str(&format!("{n},{},{}\n", exact(v.re), exact(v.im)));
             }
         }
     }
@@ -309,12 +337,7 @@ pub fn parse_spikes_json(text: &str, source_name: &str) -> Result<SpikeFile> {
 /// # Errors
 /// As [`parse_spikes_json`]; unreadable files give line 0.
 pub fn read_spikes_json(path: &Path) -> Result<SpikeFile> {
-    let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| Error::Parse {
-        source_name: name.clone(),
-        line: 0,
-        message: format!("cannot read the file: {e}"),
-    })?;
+    let (text, name) = read_text(path)?;
     parse_spikes_json(&text, &name)
 }
 
@@ -324,7 +347,7 @@ pub fn estimate_to_json(estimate: &Estimate) -> String {
     serde_json::to_string_pretty(estimate).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
 }
 
-/// Spikes as CSV `position,re,im`.
+/// Spikes as CSV `position,re,im`, every value in full ([`exact`]).
 pub fn spikes_to_csv(spikes: &Spikes) -> String {
     let mut out = String::from("position,re,im\n");
     for Spike {
@@ -333,8 +356,10 @@ pub fn spikes_to_csv(spikes: &Spikes) -> String {
     } in spikes
     {
         out.push_str(&format!(
-            "{position:e},{:e},{:e}\n",
-            amplitude.re, amplitude.im
+            "{},{},{}\n",
+            exact(*position),
+            exact(amplitude.re),
+            exact(amplitude.im)
         ));
     }
     out

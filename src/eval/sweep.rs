@@ -329,10 +329,10 @@ pub fn to_csv(summaries: &[Summary]) -> String {
         "method,trials,true_spikes,found,missed,spurious,complete,rmse_fc,max_error_fc,rmse_over_crb,\
          median_seconds,errors,not_converged,warned\n",
     );
-    let cell = |v: Option<f64>| v.map_or_else(String::new, |x| format!("{x:e}"));
+    let cell = |v: Option<f64>| v.map_or_else(String::new, super::io::exact);
     for s in summaries {
         out.push_str(&format!(
-            "{},{},{},{},{},{},{},{},{},{},{:e},{},{},{}\n",
+            "{},{},{},{},{},{},{},{},{},{},{},{},{},{}\n",
             s.method,
             s.trials,
             s.true_spikes,
@@ -343,7 +343,7 @@ pub fn to_csv(summaries: &[Summary]) -> String {
             cell(s.rmse_fc),
             cell(s.max_error_fc),
             cell(s.rmse_over_crb),
-            s.median_seconds,
+            super::io::exact(s.median_seconds),
             s.errors,
             s.not_converged,
             s.warned
