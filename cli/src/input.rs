@@ -21,9 +21,10 @@ fn read_text(path: &Path) -> Result<String, Error> {
 /// The sample file of `recover` and `plot`, with the flags that fix its band.
 #[derive(clap::Args, Debug, Clone)]
 pub struct SampleArgs {
-    /// Sample file (CSV, header `k,re,im` or `n,re,im`).
-    #[arg(long, short)]
-    pub input: PathBuf,
+    /// Sample file (CSV, header `k,re,im` or `n,re,im`); `recover` takes several (`-i a.csv -i b.csv`
+    /// or `-i a.csv b.csv`) and then writes one JSON line per file.
+    #[arg(long, short, required = true, num_args = 1..)]
+    pub input: Vec<PathBuf>,
     /// Cutoff fc of the band -fc..fc, for Fourier files only (default: the largest |k| in the file);
     /// a time-sample file's band is fixed by its N samples, and --fc is refused with one.
     #[arg(long)]
@@ -34,9 +35,25 @@ pub struct SampleArgs {
 }
 
 impl SampleArgs {
-    /// Read the file into measurements.
+    /// The one sample file, for the subcommands that take one (exit 2 when several are given).
+    pub fn path(&self) -> Result<&Path, Failure> {
+        match self.input.as_slice() {
+            [one] => Ok(one),
+            _ => Err(Failure::Usage(format!(
+                "this subcommand takes one --input file, not {}",
+                self.input.len()
+            ))),
+        }
+    }
+
+    /// Read the one file into measurements.
     pub fn load(&self) -> Result<Measurements, Failure> {
-        load_samples(&self.input, self.fc, self.domain)
+        load_samples(self.path()?, self.fc, self.domain)
+    }
+
+    /// Read the file `path` with these flags.
+    pub fn load_path(&self, path: &Path) -> Result<Measurements, Failure> {
+        load_samples(path, self.fc, self.domain)
     }
 }
 

@@ -180,7 +180,7 @@ fn caption(
     raw.push((
         format!(
             "{}: {kind}. Method {}: {}, {} recovered, {}.",
-            file_name(&a.samples.input),
+            file_name(&a.samples.input[0]),
             est.method,
             est.status,
             spikes(est.spikes.len()),
@@ -330,7 +330,11 @@ fn render(
         let mut chart = ChartBuilder::on(&top)
             .margin(12)
             .caption(
-                format!("{} — {} estimate", file_name(&a.samples.input), est.method),
+                format!(
+                    "{} — {} estimate",
+                    file_name(&a.samples.input[0]),
+                    est.method
+                ),
                 ("sans-serif", 22).into_font().color(&INK),
             )
             .x_label_area_size(50)

@@ -30,6 +30,9 @@ pub struct RecoverArgs {
 
 pub fn run(a: RecoverArgs) -> Result<(), Failure> {
     let noise = requested_noise(a.method.sigma)?;
+    if a.samples.input.len() > 1 {
+        return run_batch(&a, noise);
+    }
     let data = a.samples.load()?;
     let estimator = configure(&a.method, noise)?;
     let estimate = estimator.estimate(&data).map_err(Failure::Estimate)?;
@@ -50,6 +53,73 @@ pub fn run(a: RecoverArgs) -> Result<(), Failure> {
     };
     println!("{}", text.trim_end());
     Ok(())
+}
+
+/// Several input files: every file read (a file that cannot be read is reported on its own line),
+/// the estimates made in parallel on all cores ([`finespike::estimate_batch`]: input order, the same
+/// results as one file at a time), then one JSON object per input on stdout, in input order, each
+/// with an `"input"` field holding the path and either the estimate or an `"error"`. The exit code
+/// is that of the first failure (3 unreadable file, 4 estimate refused), after every line is written.
+fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
+    if a.format != Format::Json {
+        return Err(Failure::Usage(
+            "several --input files are written as JSON Lines; --format csv takes one file".into(),
+        ));
+    }
+    let estimator = configure(&a.method, noise)?;
+    let loaded: Vec<Result<finespike::Measurements, Failure>> = a
+        .samples
+        .input
+        .iter()
+        .map(|p| a.samples.load_path(p))
+        .collect();
+    let records: Vec<finespike::Measurements> = loaded
+        .iter()
+        .filter_map(|r| r.as_ref().ok().cloned())
+        .collect();
+    let mut estimates = finespike::estimate_batch(estimator.as_ref(), &records).into_iter();
+    let mut first_failure: Option<Failure> = None;
+    for (path, load) in a.samples.input.iter().zip(loaded) {
+        let shown = crate::shown(path);
+        let line = match load {
+            Err(f) => {
+                let text = failure_text(&f);
+                first_failure.get_or_insert(f);
+                serde_json::json!({ "input": shown, "error": text })
+            }
+            Ok(_) => match estimates.next() {
+                Some(Ok(estimate)) => {
+                    for w in warnings(&estimate) {
+                        eprintln!("warning: {shown}: {w}");
+                    }
+                    let mut v = serde_json::to_value(&estimate).unwrap_or_default();
+                    if let Some(obj) = v.as_object_mut() {
+                        obj.insert("input".into(), serde_json::Value::String(shown));
+                    }
+                    v
+                }
+                Some(Err(e)) => {
+                    let text = e.to_string();
+                    first_failure.get_or_insert(Failure::Estimate(e));
+                    serde_json::json!({ "input": shown, "error": text })
+                }
+                None => unreachable!("one estimate per loaded record"),
+            },
+        };
+        println!("{line}");
+    }
+    match first_failure {
+        Some(f) => Err(f),
+        None => Ok(()),
+    }
+}
+
+/// The message of a failure, as the error line would print it.
+fn failure_text(f: &Failure) -> String {
+    match f {
+        Failure::Usage(s) | Failure::NoEstimate(s) | Failure::Output(s) => s.clone(),
+        Failure::Input(e) | Failure::Estimate(e) => e.to_string(),
+    }
 }
 
 /// The warnings of an estimate, in plain words: the library's [`Warning`]s, and a non-converged
