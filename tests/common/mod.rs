@@ -66,6 +66,12 @@ pub struct Score {
     pub max_rel_amp_err: f64,
 }
 
+/// Greedy nearest-neighbour matching of `estimate` to `truth` within 0.5/fc, with the worst position
+/// and relative amplitude errors. Kept deliberately independent of the library's
+/// `eval::metrics::score` (an optimal Kuhn–Munkres assignment): the reference-case tests must not
+/// judge an estimator with the crate's own scoring code, and on the well-separated reference cases
+/// both matchings agree, so a disagreement points at a bug in one of them (`tests/metrics.rs` checks
+/// the library's against worked examples).
 pub fn score(estimate: &Spikes, truth: &Spikes, fc: f64) -> Score {
     let mut used = vec![false; estimate.len()];
     let mut found = 0;
