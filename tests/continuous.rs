@@ -682,3 +682,30 @@ fn noise_fitting_is_not_called_solved() {
     assert_ne!(est.status, Status::Solved, "{} spikes", est.spikes.len());
     assert!(est.spikes.len() <= 2 * n / 3, "{} spikes", est.spikes.len());
 }
+
+/// A noise level so large that the noise ball holds the data (`δ ≥ ‖y‖`) or the weight exceeds
+/// `max |F*y|`: zero is the optimum, reported at once as solved with no spike and a certificate
+/// `|q| ≤ 1`, instead of a solver run that ended in numerical failure at σ = 1e16 (invented scene).
+#[test]
+fn huge_noise_levels_give_the_zero_optimum_at_once() {
+    let sample = Scenario::new(8, 2)
+        .with_separation(2.0)
+        .with_seed(4)
+        .generate()
+        .unwrap();
+    let estimates = [
+        Tv::with_sigma(1e16).estimate(&sample.data).unwrap(),
+        Ast::with_sigma(1e4).estimate(&sample.data).unwrap(),
+        Sfw::with_sigma(1e16).estimate(&sample.data).unwrap(),
+    ];
+    for est in estimates {
+        assert_eq!(est.status, Status::Solved, "{}", est.method);
+        assert!(est.spikes.is_empty());
+        assert_eq!(est.diagnostics.solver, Some(finespike::tv::ZERO_OPTIMUM));
+        assert!(est.diagnostics.certificate.unwrap().max_modulus <= 1.0);
+    }
+    // A noise level that leaves signal outside the ball still runs a solver.
+    let est = Tv::with_sigma(1e-3).estimate(&sample.data).unwrap();
+    assert_ne!(est.diagnostics.solver, Some(finespike::tv::ZERO_OPTIMUM));
+    assert_eq!(est.spikes.len(), 2);
+}

@@ -183,6 +183,11 @@ pub(crate) fn run(
     let (sigma, sigma_estimated) = resolve_noise(data, noise)?;
     let problem = problem_for(sigma)?.validated()?;
     let n = data.band_len();
+    if let Some(zero) = zero_solution(data, problem, &settings) {
+        let mut est = finish(method, data, zero, sigma, sigma_estimated, &settings)?;
+        est.diagnostics.solve_seconds = start.elapsed().as_secs_f64();
+        return Ok(est);
+    }
     let use_sliding = match settings.backend {
         Backend::InteriorPoint => false,
         Backend::SlidingFrankWolfe => true,
@@ -204,6 +209,58 @@ pub(crate) fn run(
     let mut est = finish(method, data, solution, sigma, sigma_estimated, &settings)?;
     est.diagnostics.solve_seconds = start.elapsed().as_secs_f64();
     Ok(est)
+}
+
+/// [`crate::Diagnostics::solver`] of an estimate whose convex problem has the optimum `μ = 0`, found
+/// without a solver.
+pub const ZERO_OPTIMUM: &str =
+    "none: zero is the optimum (noise ball holds the data, or weight above max |F*y|)";
+
+/// The solution `μ = 0` with its certificate, when it is the optimum; `None` otherwise (or for the
+/// exact problem, which the solvers handle).
+///
+/// - Constrained, `δ ≥ ‖y‖`: `μ = 0` is feasible with norm 0; the dual vector `c = 0` attains the
+///   dual value `Re⟨y, c⟩ − δ‖c‖ = 0`.
+/// - Penalised, `‖F*y‖∞ ≤ τ`: `c = y/τ` satisfies `|q| = |F*c| ≤ 1`, the optimality condition of
+///   `μ = 0` for BLASSO (Duval & Peyré 2015, FoCM 15(5), Prop. 3 with an empty support). The maximum
+///   of `|F*y|` is found with the peak search of the dual polynomial (grid and Newton polish).
+fn zero_solution(
+    data: &Measurements,
+    problem: Problem,
+    settings: &TvSettings,
+) -> Option<ConvexSolution> {
+    let mut c = vec![num_complex::Complex64::new(0.0, 0.0); data.band_len()];
+    let objective = match problem {
+        Problem::Exact => return None,
+        Problem::Constrained { delta } => {
+            if delta < data.norm() {
+                return None;
+            }
+            0.0
+        }
+        Problem::Penalised { tau } => {
+            for (&k, &v) in data.indices().iter().zip(data.values()) {
+                c[(k - data.kmin()) as usize] = v / tau;
+            }
+            0.5 * data.norm().powi(2)
+        }
+    };
+    let q = DualPolynomial::new(data.kmin(), c);
+    let peaks = q.peaks(q.search_grid_len(settings.grid_oversample), 0.0);
+    if peaks.iter().any(|p| p.modulus > 1.0) {
+        return None;
+    }
+    Some(ConvexSolution {
+        support: Vec::new(),
+        dual: q,
+        status: Status::Solved,
+        iterations: 0,
+        objective,
+        gap: 0.0,
+        solver: ZERO_OPTIMUM,
+        precertificate_failed: false,
+        certifier: Certifier::Peaks(peaks),
+    })
 }
 
 /// Support of the convex solution → shared post-processing → certificate against the final
