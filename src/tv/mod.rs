@@ -229,23 +229,33 @@ fn zero_solution(
     problem: Problem,
     settings: &TvSettings,
 ) -> Option<ConvexSolution> {
-    let mut c = vec![num_complex::Complex64::new(0.0, 0.0); data.band_len()];
-    let objective = match problem {
+    let zero = num_complex::Complex64::new(0.0, 0.0);
+    let (q, objective) = match problem {
         Problem::Exact => return None,
-        Problem::Constrained { delta } => {
-            if delta < data.norm() {
+        // c = 0: the zero polynomial, one coefficient (nothing the size of the band is allocated).
+        Problem::Constrained { delta } if delta >= data.norm() => {
+            (DualPolynomial::new(data.kmin(), vec![zero]), 0.0)
+        }
+        Problem::Constrained { .. } => return None,
+        Problem::Penalised { tau } => {
+            // The peak search needs the band's FFT grid: past the grid limit, leave the problem to
+            // the solvers, which refuse it with a typed error.
+            let grid = data
+                .band_len()
+                .checked_mul(settings.grid_oversample.max(2))?;
+            if grid > crate::kernels::band::MAX_GRID {
                 return None;
             }
-            0.0
-        }
-        Problem::Penalised { tau } => {
+            let mut c = vec![zero; data.band_len()];
             for (&k, &v) in data.indices().iter().zip(data.values()) {
                 c[(k - data.kmin()) as usize] = v / tau;
             }
-            0.5 * data.norm().powi(2)
+            (
+                DualPolynomial::new(data.kmin(), c),
+                0.5 * data.norm().powi(2),
+            )
         }
     };
-    let q = DualPolynomial::new(data.kmin(), c);
     let peaks = q.peaks(q.search_grid_len(settings.grid_oversample), 0.0);
     if peaks.iter().any(|p| p.modulus > 1.0) {
         return None;
