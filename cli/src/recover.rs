@@ -103,6 +103,8 @@ fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
                     first_failure.get_or_insert(Failure::Estimate(e));
                     serde_json::json!({ "input": shown, "error": text })
                 }
+                // Invariant: `records` holds exactly the loaded files, in order, and
+                // `estimate_batch` returns one result per record, so each `Ok` load has its estimate.
                 None => unreachable!("one estimate per loaded record"),
             },
         };
