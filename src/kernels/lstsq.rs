@@ -4,6 +4,14 @@
 //!
 //! One solver for both: a column-pivoted QR factorisation (faer), which stays accurate when two
 //! support points are close and `Φ` is ill-conditioned.
+//!
+//! Records with a trend are fitted jointly with it: `Φ` and `y` are projected onto the orthogonal
+//! complement of the polynomials (variable projection; see [`crate::Trend`]). For a real-valued
+//! record, [`fit`] fits conjugate-symmetric pairs: every position `τ` stands for the line at
+//! `f = min(τ, 1 − τ)`, positions whose lines lie closer than [`MIRROR_MERGE_FC`]`/fc` are one
+//! line, and each line is fitted as the pair `±f` (a single atom at `f = 0` or `1/2`). The
+//! least-squares amplitudes of a real record on a mirror-symmetric support are conjugate-symmetric
+//! (the problem is invariant under `τ ↦ −τ`, `a ↦ ā`); the symmetry is imposed exactly at the end.
 
 use crate::error::{Error, Result};
 use crate::kernels::band::Model;
@@ -46,7 +54,17 @@ pub fn least_squares(data: &Measurements, positions: &[f64]) -> Result<Vec<Compl
         });
     }
     let k = data.indices();
-    let phi = Mat::<c64>::from_fn(m, s, |r, c| atom(k[r], positions[c]));
+    let mut phi = Mat::<c64>::from_fn(m, s, |r, c| atom(k[r], positions[c]));
+    if let Some(b) = data.trend_basis() {
+        let mut col = vec![Complex64::new(0.0, 0.0); m];
+        for c in 0..s {
+            col.iter_mut()
+                .enumerate()
+                .for_each(|(r, x)| *x = phi[(r, c)]);
+            b.project(&mut col);
+            col.iter().enumerate().for_each(|(r, x)| phi[(r, c)] = *x);
+        }
+    }
     solve(phi, |r| data.values()[r]).ok_or_else(|| Error::Numerical {
         step: "least-squares amplitudes",
         detail: "the support is numerically rank deficient (two positions coincide?)".into(),
@@ -58,7 +76,17 @@ pub fn least_squares(data: &Measurements, positions: &[f64]) -> Result<Vec<Compl
 /// # Errors
 /// As [`least_squares`].
 pub fn fit(data: &Measurements, positions: &[f64]) -> Result<Spikes> {
-    let amps = least_squares(data, positions)?;
+    let symmetric;
+    let positions = if data.is_real() {
+        symmetric = mirror_support(positions, MIRROR_MERGE_FC / data.fc());
+        &symmetric[..]
+    } else {
+        positions
+    };
+    let mut amps = least_squares(data, positions)?;
+    if data.is_real() {
+        impose_conjugate_symmetry(positions, &mut amps);
+    }
     Spikes::new(
         positions
             .iter()
@@ -66,6 +94,65 @@ pub fn fit(data: &Measurements, positions: &[f64]) -> Result<Spikes> {
             .map(|(&p, a)| Spike::new(p, a))
             .collect(),
     )
+}
+
+/// Lines of a real record whose folded frequencies lie closer than this many Rayleigh lengths are
+/// one line (the default merge distance of the shared post-processing).
+pub const MIRROR_MERGE_FC: f64 = 0.05;
+
+/// The mirror-symmetric support of the lines at `positions` (module docs), sorted so that each
+/// pair's members are `τ` and `1 − τ`.
+pub(crate) fn mirror_support(positions: &[f64], merge: f64) -> Vec<f64> {
+    let mut lines: Vec<f64> = positions
+        .iter()
+        .map(|&p| {
+            let p = crate::model::wrap(p);
+            p.min(1.0 - p)
+        })
+        .collect();
+    lines.sort_by(f64::total_cmp);
+    let mut merged: Vec<(f64, usize)> = Vec::new();
+    for f in lines {
+        match merged.last_mut() {
+            Some((g, n)) if f - *g / *n as f64 <= merge => {
+                *g += f;
+                *n += 1;
+            }
+            _ => merged.push((f, 1)),
+        }
+    }
+    let mut out = Vec::with_capacity(2 * merged.len());
+    for (g, n) in merged {
+        let f = g / n as f64;
+        // A line at 0 or 1/2 is a single real atom.
+        if f <= 1e-12 {
+            out.push(0.0);
+        } else if f >= 0.5 - 1e-12 {
+            out.push(0.5);
+        } else {
+            out.push(f);
+            out.push(1.0 - f);
+        }
+    }
+    out
+}
+
+/// Make the amplitudes of mirror pairs `(τ, 1 − τ)` exactly conjugate (their mean), and those of
+/// single atoms at 0 and 1/2 real.
+fn impose_conjugate_symmetry(positions: &[f64], amps: &mut [Complex64]) {
+    let mut j = 0;
+    while j < positions.len() {
+        let p = positions[j];
+        if p == 0.0 || p == 0.5 {
+            amps[j].im = 0.0;
+            j += 1;
+        } else {
+            let a = (amps[j] + amps[j + 1].conj()) / 2.0;
+            amps[j] = a;
+            amps[j + 1] = a.conj();
+            j += 2;
+        }
+    }
 }
 
 /// Least-squares amplitudes `min_a ‖y − Φa‖₂` at the positions of `point`, in the band model's

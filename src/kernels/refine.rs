@@ -101,15 +101,21 @@ pub struct Refined {
     pub final_residual: f64,
 }
 
+/// The residual, after refitting the record's trend if it has one (`P⊥(x − Fμ)`).
 fn residual(data: &Measurements, pos: &[f64], amp: &[Complex64]) -> Vec<Complex64> {
-    data.indices()
+    let mut r: Vec<Complex64> = data
+        .indices()
         .iter()
         .zip(data.values())
         .map(|(&k, &y)| {
             let model: Complex64 = pos.iter().zip(amp).map(|(&t, &a)| a * atom(k, t)).sum();
             y - model
         })
-        .collect()
+        .collect();
+    if let Some(b) = data.trend_basis() {
+        b.project(&mut r);
+    }
+    r
 }
 
 fn norm(r: &[Complex64]) -> f64 {
@@ -143,15 +149,25 @@ pub fn refine(data: &Measurements, spikes: &Spikes, settings: RefineSettings) ->
     let mut lambda = 1e-3;
     let mut accepted = 0;
     for _ in 0..settings.max_iter {
-        // Jacobian of the stacked real residual [Re r; Im r] with respect to [τ, Re a, Im a].
+        // Jacobian of the stacked real residual [Re r; Im r] with respect to [τ, Re a, Im a]; with a
+        // trend, each column is projected like the residual (variable projection, module docs of
+        // `Trend`).
         let mut jac = Mat::<f64>::zeros(2 * m, p);
-        for (row, &k) in data.indices().iter().enumerate() {
-            for j in 0..s {
-                let e = atom(k, pos[j]);
-                let dtau = -(amp[j] * Complex64::new(0.0, -2.0 * PI * k as f64) * e);
-                let dre = -e;
-                let dim = -(Complex64::new(0.0, 1.0) * e);
-                for (col, d) in [(j, dtau), (s + j, dre), (2 * s + j, dim)] {
+        let mut column = vec![Complex64::new(0.0, 0.0); m];
+        for j in 0..s {
+            for (which, col) in [j, s + j, 2 * s + j].into_iter().enumerate() {
+                for (row, &k) in data.indices().iter().enumerate() {
+                    let e = atom(k, pos[j]);
+                    column[row] = match which {
+                        0 => -(amp[j] * Complex64::new(0.0, -2.0 * PI * k as f64) * e),
+                        1 => -e,
+                        _ => -(Complex64::new(0.0, 1.0) * e),
+                    };
+                }
+                if let Some(b) = data.trend_basis() {
+                    b.project(&mut column);
+                }
+                for (row, d) in column.iter().enumerate() {
                     jac[(row, col)] = d.re;
                     jac[(m + row, col)] = d.im;
                 }

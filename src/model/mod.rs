@@ -15,6 +15,9 @@ use num_complex::Complex64;
 use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
 
+mod record;
+pub use record::{Scale, Trend, TrendBasis, TrendFit, MAX_TREND_DEGREE};
+
 /// Proven separation threshold for exact recovery by TV minimisation, in Rayleigh units:
 /// `Δ ≥ 1.26/fc` (Fernandez-Granda 2016, Information and Inference 5(3), Thm. 2.2).
 pub const PROVEN_SEPARATION_FC: f64 = 1.26;
@@ -244,10 +247,19 @@ impl Domain {
 #[derive(Debug, Clone, PartialEq)]
 pub struct Measurements {
     indices: Vec<i64>,
+    /// The values the estimators fit: the data as given, or with a trend their projection `P⊥x`.
     values: Vec<Complex64>,
     kmin: i64,
     kmax: i64,
     domain: Domain,
+    /// A real-valued time record (conjugate-symmetric model).
+    real: bool,
+    scale: Option<Scale>,
+    trend: Trend,
+    /// The polynomial basis of the trend (`None` without one).
+    basis: Option<TrendBasis>,
+    /// The values as given, kept only with a trend (then `values` holds their projection).
+    raw: Vec<Complex64>,
 }
 
 impl Measurements {
@@ -318,32 +330,192 @@ impl Measurements {
         Self::in_band(-(n as i64 - 1), 0, &idx, samples, Domain::Time)
     }
 
-    /// Time samples at integer times `times` (a subset of `0..N` with `N = max + 1`; gaps allowed).
+    /// Time samples at integer sample indices `times` (any origin, any order, gaps allowed).
+    ///
+    /// The record spans `first..=last` (`N = last − first + 1` samples, the resolution `1/N`); it is
+    /// stored as Fourier data with `k = −n` in the band `−last..=−first`, so that amplitudes keep the
+    /// phase they have at the index origin `n = 0` as numbered by the user.
     ///
     /// # Errors
-    /// As [`Measurements::from_time_samples`], plus [`Error::DuplicateIndex`], [`Error::LengthMismatch`]
-    /// and [`Error::IndexOutOfBand`] for negative times.
+    /// As [`Measurements::from_time_samples`], plus [`Error::DuplicateIndex`],
+    /// [`Error::LengthMismatch`], [`Error::ZeroCutoff`] when all samples share one index, and
+    /// [`Error::IndexOutOfBand`] for indices beyond `±2^62`.
     pub fn from_time_subset(times: &[i64], samples: &[Complex64]) -> Result<Self> {
         if times.is_empty() {
             return Err(Error::Empty {
                 what: "time samples",
             });
         }
-        let tmax = times.iter().copied().max().unwrap_or(0);
-        if tmax < 1 {
-            return Err(Error::ZeroCutoff);
-        }
         // Refused here, before the sign change `k = −n` (which overflows for `i64::MIN`).
-        if let Some(&t) = times.iter().find(|&&t| t < 0) {
+        const LIMIT: i64 = 1 << 62;
+        if let Some(&t) = times.iter().find(|&&t| !(-LIMIT..=LIMIT).contains(&t)) {
             return Err(Error::IndexOutOfBand {
                 what: Domain::Time.index_words(),
                 index: t,
-                range: format!("the record 0..={tmax}"),
-                advice: "sample indices must be non-negative",
+                range: "±2^62".into(),
+                advice: "renumber the samples from a nearer origin",
             });
         }
+        let tmin = times.iter().copied().min().unwrap_or(0);
+        let tmax = times.iter().copied().max().unwrap_or(0);
+        if tmax <= tmin {
+            return Err(Error::ZeroCutoff);
+        }
         let idx: Vec<i64> = times.iter().map(|&t| -t).collect();
-        Self::in_band(-tmax, 0, &idx, samples, Domain::Time)
+        Self::in_band(-tmax, -tmin, &idx, samples, Domain::Time)
+    }
+
+    /// `N` real-valued samples `x_0, …, x_{N−1}` of `Σ_j A_j cos(2πf_j n + φ_j)`.
+    ///
+    /// In the complex model each line is the conjugate-symmetric pair `(A/2)e^{±iφ}` at `±f`; the
+    /// estimators fit such pairs and report each line once, at `f ∈ [0, 1/2]` with the phasor
+    /// amplitude `A e^{iφ}` (see [`crate::Line`]).
+    ///
+    /// # Errors
+    /// As [`Measurements::from_time_samples`].
+    pub fn from_real_samples(samples: &[f64]) -> Result<Self> {
+        let z: Vec<Complex64> = samples.iter().map(|&x| Complex64::new(x, 0.0)).collect();
+        let mut m = Self::from_time_samples(&z)?;
+        m.real = true;
+        Ok(m)
+    }
+
+    /// Real-valued samples at integer sample indices `times` (any origin, gaps allowed).
+    ///
+    /// # Errors
+    /// As [`Measurements::from_time_subset`].
+    pub fn from_real_subset(times: &[i64], samples: &[f64]) -> Result<Self> {
+        let z: Vec<Complex64> = samples.iter().map(|&x| Complex64::new(x, 0.0)).collect();
+        let mut m = Self::from_time_subset(times, &z)?;
+        m.real = true;
+        Ok(m)
+    }
+
+    /// The same record with a polynomial nuisance fitted jointly with the lines (see
+    /// [`Trend`]): the estimators see the data with the best polynomial projected out, and every
+    /// residual is taken after refitting it.
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] when the polynomial would take more than half of the measured
+    /// samples.
+    pub fn with_trend(&self, trend: Trend) -> Result<Self> {
+        let raw = self.raw_values().to_vec();
+        let mut m = Measurements {
+            values: raw.clone(),
+            trend,
+            basis: None,
+            raw: Vec::new(),
+            ..self.clone()
+        };
+        if let Some(d) = trend.degree() {
+            let user: Vec<i64> = self
+                .indices
+                .iter()
+                .map(|&k| self.domain.user_index(k))
+                .collect();
+            let basis = TrendBasis::new(&user, d)?;
+            basis.project(&mut m.values);
+            m.basis = Some(basis);
+            m.raw = raw;
+        }
+        Ok(m)
+    }
+
+    /// The same record with a physical scale: a sample rate for a time record, a domain length for
+    /// Fourier data.
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] for a non-positive or non-finite value;
+    /// also for a sample rate on Fourier data or a length on a time record.
+    pub fn with_scale(&self, scale: Scale) -> Result<Self> {
+        let scale = scale.validated()?;
+        let fits = matches!(
+            (scale, self.domain),
+            (Scale::SampleRate(_), Domain::Time) | (Scale::DomainLength(_), Domain::Fourier)
+        );
+        if !fits {
+            return Err(Error::InvalidSetting {
+                name: match scale {
+                    Scale::SampleRate(_) => "sample rate",
+                    Scale::DomainLength(_) => "domain length",
+                },
+                value: scale.factor().to_string(),
+                rule: "a sample rate applies to time records, a domain length to Fourier data",
+            });
+        }
+        Ok(Measurements {
+            scale: Some(scale),
+            ..self.clone()
+        })
+    }
+
+    /// True for a real-valued time record.
+    pub fn is_real(&self) -> bool {
+        self.real
+    }
+
+    /// The physical scale, if one was given.
+    pub fn scale(&self) -> Option<Scale> {
+        self.scale
+    }
+
+    /// The polynomial nuisance fitted with the lines.
+    pub fn trend(&self) -> Trend {
+        self.trend
+    }
+
+    /// The basis of the polynomial nuisance (`None` without one).
+    pub fn trend_basis(&self) -> Option<&TrendBasis> {
+        self.basis.as_ref()
+    }
+
+    /// The values as given (before a trend was projected out).
+    pub fn raw_values(&self) -> &[Complex64] {
+        if self.basis.is_some() {
+            &self.raw
+        } else {
+            &self.values
+        }
+    }
+
+    /// The fitted nuisance for a spike train: the least-squares polynomial of `x − Fμ`.
+    pub fn trend_fit(&self, spikes: &Spikes) -> Option<TrendFit> {
+        let basis = self.basis.as_ref()?;
+        let model = forward(spikes, &self.indices);
+        let r: Vec<Complex64> = self.raw.iter().zip(model).map(|(y, m)| y - m).collect();
+        Some(TrendFit {
+            trend: self.trend,
+            centre: basis.centre(),
+            coefficients: basis.coefficients(&r),
+        })
+    }
+
+    /// A position (cycles per sample, or a fraction of the domain) in the user's unit: for a time
+    /// record, a signed frequency in `(−1/2, 1/2]` (for a real one, `[0, 1/2]`) times the sample
+    /// rate; for Fourier data, the position times the domain length.
+    pub fn physical(&self, position: f64) -> f64 {
+        let p = match self.domain {
+            Domain::Time if position > 0.5 => position - 1.0,
+            _ => position,
+        };
+        let p = if self.real { p.abs() } else { p };
+        p * self.scale.map_or(1.0, Scale::factor)
+    }
+
+    /// The record's resolution `1/N` (one periodogram bin) in the user's unit: `R/N` Hz with a
+    /// sample rate, `L/N` with a domain length.
+    pub fn resolution(&self) -> f64 {
+        self.scale.map_or(1.0, Scale::factor) / self.band_len() as f64
+    }
+
+    /// The first and last index of the record as the user numbered them (sample indices `n` for
+    /// a time record, `k` for Fourier data).
+    pub fn user_span(&self) -> (i64, i64) {
+        let (a, b) = (
+            self.domain.user_index(self.kmin),
+            self.domain.user_index(self.kmax),
+        );
+        (a.min(b), a.max(b))
     }
 
     /// General constructor: values at distinct `indices` inside the contiguous band `kmin..=kmax`.
@@ -434,6 +606,11 @@ impl Measurements {
             kmin,
             kmax,
             domain,
+            real: false,
+            scale: None,
+            trend: Trend::None,
+            basis: None,
+            raw: Vec::new(),
         })
     }
 
@@ -532,9 +709,15 @@ impl Measurements {
     }
 
     /// Residual `y − Fμ` of a spike train against these measurements.
+    ///
+    /// With a trend, the residual after refitting it: `P⊥(x − Fμ)` (module docs of [`Trend`]).
     pub fn residual(&self, spikes: &Spikes) -> Vec<Complex64> {
         let model = forward(spikes, &self.indices);
-        self.values.iter().zip(model).map(|(y, m)| y - m).collect()
+        let mut r: Vec<Complex64> = self.values.iter().zip(model).map(|(y, m)| y - m).collect();
+        if let Some(b) = &self.basis {
+            b.project(&mut r);
+        }
+        r
     }
 
     /// Residual norm `‖y − Fμ‖₂`.
@@ -550,8 +733,13 @@ impl Measurements {
     ///
     /// # Errors
     /// [`Error::LengthMismatch`] or [`Error::NonFinite`].
+    ///
+    /// The record's kind (real-valued, scale) is kept, and a trend is projected out of the new values.
     pub fn with_values(&self, values: &[Complex64]) -> Result<Self> {
-        Self::in_band(self.kmin, self.kmax, &self.indices, values, self.domain)
+        let mut m = Self::in_band(self.kmin, self.kmax, &self.indices, values, self.domain)?;
+        m.real = self.real && values.iter().all(|v| v.im == 0.0);
+        m.scale = self.scale;
+        m.with_trend(self.trend)
     }
 }
 
@@ -584,6 +772,16 @@ pub fn forward_matrix(indices: &[i64], positions: &[f64]) -> Vec<Vec<Complex64>>
         .iter()
         .map(|&k| positions.iter().map(|&t| atom(k, t)).collect())
         .collect()
+}
+
+/// Serialise a list of complex numbers as `[[re, im], …]`.
+pub(crate) mod complex_vec {
+    use num_complex::Complex64;
+    use serde::{Serialize, Serializer};
+
+    pub fn serialize<S: Serializer>(z: &[Complex64], s: S) -> Result<S::Ok, S::Error> {
+        z.iter().map(|z| [z.re, z.im]).collect::<Vec<_>>().serialize(s)
+    }
 }
 
 /// Serialise a complex number as `[re, im]`.
