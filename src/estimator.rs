@@ -8,6 +8,7 @@
 use crate::dual::{Certificate, DualPolynomial};
 use crate::error::Result;
 use crate::model::{Measurements, Spikes, PROVEN_SEPARATION_FC};
+use num_complex::Complex64;
 use serde::{Serialize, Serializer};
 use std::fmt;
 
@@ -130,16 +131,52 @@ impl fmt::Display for Status {
 #[derive(Debug, Clone, PartialEq)]
 #[non_exhaustive]
 pub enum Warning {
-    /// Recovered spikes closer than the proven threshold [`PROVEN_SEPARATION_FC`]` = 1.26/fc` (but
-    /// at least 1/fc).
+    /// Recovered lines resolved by the record (at least one resolution cell `1/N` apart) but closer
+    /// than the separation [`PROVEN_SEPARATION_FC`]` = 1.26/fc` above which TV recovery is proven exact.
     BelowProvenSeparation {
-        /// Minimum separation of the recovered support, in Rayleigh units.
+        /// Minimum separation of the recovered lines, in the TV theory's unit `1/fc`.
         separation_fc: f64,
+        /// The same in the record's resolution cells `1/N`.
+        separation_cells: f64,
     },
-    /// Recovered spikes closer than the Rayleigh limit 1/fc.
-    BelowRayleigh {
-        /// Minimum separation of the recovered support, in Rayleigh units.
+    /// Recovered lines closer than the record's resolution `1/N` (one periodogram bin; `1/(NΔt)` Hz).
+    UnderResolved {
+        /// Minimum separation of the recovered lines, in the TV theory's unit `1/fc`.
         separation_fc: f64,
+        /// The same in the record's resolution cells `1/N`.
+        separation_cells: f64,
+    },
+    /// A line of a time record within one resolution cell of zero frequency: most often an offset or
+    /// a trend left in the record, not a periodic component.
+    NearZeroFrequency {
+        /// The line's frequency in the record's unit.
+        frequency: f64,
+        /// Its distance from zero frequency in resolution cells `1/N`.
+        cells: f64,
+        /// Its amplitude modulus.
+        amplitude: f64,
+    },
+    /// Two lines much closer than the record's resolution with nearly opposite phases and amplitudes
+    /// far above their sum: a fitting artifact, not two physical lines (see [`crate::lines`]).
+    CancellingPair {
+        /// The two lines' positions in the record's unit.
+        positions: (f64, f64),
+        /// Their distance in resolution cells `1/N`.
+        cells: f64,
+        /// Their amplitude moduli.
+        amplitudes: (f64, f64),
+        /// The modulus of their sum.
+        sum: f64,
+        /// Their phase difference in degrees.
+        phase_deg: f64,
+    },
+    /// The noise is not white: its spectral level varies across the band (e.g. red noise rising
+    /// towards low frequencies).
+    NoiseNotWhite {
+        /// Ratio of the loudest to the quietest part of the smoothed noise spectrum.
+        ratio: f64,
+        /// Where the noise is loudest, in the record's unit.
+        loudest_at: f64,
     },
     /// The dual polynomial exceeds 1 somewhere: the optimality certificate fails.
     CertificateViolated {
@@ -188,17 +225,54 @@ pub enum Warning {
 impl fmt::Display for Warning {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
-            Warning::BelowProvenSeparation { separation_fc } => write!(
+            Warning::BelowProvenSeparation {
+                separation_fc,
+                separation_cells,
+            } => write!(
                 f,
-                "recovered spikes are {separation_fc:.3}/fc apart, below the proven exact-recovery \
-                 threshold {PROVEN_SEPARATION_FC}/fc: positions and amplitudes of the closest lines \
-                 may be wrong"
+                "the closest lines are {separation_cells:.3} resolution cells (1/N) apart: the \
+                 record resolves them, but they are {separation_fc:.3}/fc apart, below the \
+                 separation {PROVEN_SEPARATION_FC}/fc above which TV recovery is proven exact; \
+                 their positions and amplitudes may be wrong"
             ),
-            Warning::BelowRayleigh { separation_fc } => write!(
+            Warning::UnderResolved {
+                separation_fc,
+                separation_cells,
+            } => write!(
                 f,
-                "UNDER-RESOLVED: recovered spikes are {separation_fc:.3}/fc apart, below the Rayleigh \
-                 limit 1/fc; no guarantee covers this case and close lines may be merged, split or \
-                 misplaced"
+                "UNDER-RESOLVED: the closest lines are {separation_cells:.3} resolution cells (1/N) \
+                 apart ({separation_fc:.3}/fc), closer than the record can resolve; close lines may \
+                 be merged, split or misplaced"
+            ),
+            Warning::NearZeroFrequency {
+                frequency,
+                cells,
+                amplitude,
+            } => write!(
+                f,
+                "a line at frequency {frequency:.4e} (amplitude {amplitude:.4}) lies {cells:.2} \
+                 resolution cells from zero frequency: most likely an offset or trend in the \
+                 record, not a periodic component; fit a trend (offset or linear) or disregard it"
+            ),
+            Warning::CancellingPair {
+                positions,
+                cells,
+                amplitudes,
+                sum,
+                phase_deg,
+            } => write!(
+                f,
+                "ARTIFACT: the lines at {:.6} and {:.6} are {cells:.3} resolution cells apart with \
+                 phases {phase_deg:.0}° apart and amplitudes {:.4} and {:.4} that nearly cancel (sum \
+                 {sum:.4}): a fitting artifact (often a trend, an offset or red noise), not two \
+                 physical lines",
+                positions.0, positions.1, amplitudes.0, amplitudes.1
+            ),
+            Warning::NoiseNotWhite { ratio, loudest_at } => write!(
+                f,
+                "the noise is not white: its level varies by a factor {ratio:.1} across the band, \
+                 loudest near {loudest_at:.4}; lines there are less certain than the bounds say, \
+                 and the noise level used is the band's average"
             ),
             Warning::CertificateViolated { max_modulus } => write!(
                 f,
@@ -264,8 +338,15 @@ pub struct Diagnostics {
     /// (for `grid` the largest over its rounds; for the Sliding Frank–Wolfe solver from its
     /// weak-duality lower bound; for the interior point from clarabel's primal and dual objectives).
     pub duality_gap: Option<f64>,
-    /// Minimum separation of the recovered support times `fc` (`None` for fewer than two spikes).
+    /// Minimum separation of the recovered lines times `fc`, the TV theory's unit (`None` for fewer
+    /// than two lines).
     pub separation_fc: Option<f64>,
+    /// The same in the record's resolution cells `1/N` (one periodogram bin).
+    pub separation_cells: Option<f64>,
+    /// Each line once, in the record's unit (for a real record: one per cosine), with its bound.
+    pub lines: Vec<Line>,
+    /// The polynomial nuisance fitted with the lines, for a record with a trend.
+    pub trend: Option<crate::model::TrendFit>,
     /// Residual norm `‖y − Fμ̂‖₂`.
     pub residual_norm: f64,
     /// Data norm `‖y‖₂`, for scale.
@@ -384,19 +465,29 @@ impl Diagnostics {
 
     /// Diagnostics for `spikes` fitted to `data`: separation, residual and the separation warnings.
     pub fn describe(data: &Measurements, spikes: &Spikes) -> Self {
-        let sep = spikes.min_separation();
+        let lines = crate::lines::report(data, spikes, None);
+        let positions: Vec<f64> = lines.iter().map(|l| l.position).collect();
+        let sep = crate::model::min_separation(&positions);
         let separation_fc = sep.is_finite().then(|| sep * data.fc());
+        let separation_cells = sep.is_finite().then(|| sep * data.band_len() as f64);
         let mut warnings = Vec::new();
         if spikes.is_empty() {
             warnings.push(Warning::NoSpikes);
         }
-        if let Some(s) = separation_fc {
-            if s < 1.0 {
-                warnings.push(Warning::BelowRayleigh { separation_fc: s });
-            } else if s < PROVEN_SEPARATION_FC {
-                warnings.push(Warning::BelowProvenSeparation { separation_fc: s });
+        if let (Some(separation_fc), Some(separation_cells)) = (separation_fc, separation_cells) {
+            if separation_cells < 1.0 {
+                warnings.push(Warning::UnderResolved {
+                    separation_fc,
+                    separation_cells,
+                });
+            } else if separation_fc < PROVEN_SEPARATION_FC {
+                warnings.push(Warning::BelowProvenSeparation {
+                    separation_fc,
+                    separation_cells,
+                });
             }
         }
+        warnings.extend(crate::lines::cautions(data, &lines));
         Diagnostics {
             solver: None,
             iterations: 0,
@@ -404,6 +495,9 @@ impl Diagnostics {
             objective: None,
             duality_gap: None,
             separation_fc,
+            separation_cells,
+            lines,
+            trend: data.trend_fit(spikes),
             residual_norm: data.residual_norm(spikes),
             data_norm: data.norm(),
             sigma: None,
@@ -444,6 +538,7 @@ impl Diagnostics {
         if spikes.is_empty() {
             return;
         }
+        self.lines = crate::lines::report(data, spikes, Some(s));
         if let Ok(bound) = crate::bounds::crb_for(data, spikes, s) {
             let stds: Vec<f64> = bound.per_spike.iter().map(|b| b.std_position_fc).collect();
             let positions = spikes.positions();
@@ -466,6 +561,28 @@ impl Diagnostics {
             self.crb_std_position_fc = Some(stds);
         }
     }
+}
+
+/// One line (or point source) of an estimate as the user reads it: for a real-valued record one per
+/// cosine, at `f ∈ [0, 1/2]` with the phasor amplitude `A e^{iφ}` (see [`crate::lines`]).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[non_exhaustive]
+pub struct Line {
+    /// Position on the torus `[0, 1)` (for a real record `[0, 1/2]`): for a time record the frequency
+    /// in cycles per sample.
+    pub position: f64,
+    /// For a time record, the frequency in the user's unit: Hz with a sample rate, otherwise cycles
+    /// per sample; signed in `(−R/2, R/2]` for a complex record, in `[0, R/2]` for a real one.
+    pub frequency: Option<f64>,
+    /// For Fourier data with a domain length `L`, the position in the user's unit (`τ·L`).
+    pub location: Option<f64>,
+    /// Complex amplitude; for a real record the phasor `A e^{iφ}` (`|amplitude|` is the cosine
+    /// amplitude, the phase refers to the index origin `n = 0`).
+    #[serde(serialize_with = "crate::model::complex_pair::serialize")]
+    pub amplitude: Complex64,
+    /// Plug-in Cramér–Rao standard deviation of the position, in cycles per sample (or fractions of
+    /// the domain), when a noise level is known.
+    pub crb_std_position: Option<f64>,
 }
 
 /// How a model order was obtained.
@@ -554,8 +671,12 @@ mod tests {
         assert!(w.is_empty());
         let w = Diagnostics::describe(&data, &at(1.1)).warnings;
         assert!(matches!(w[..], [Warning::BelowProvenSeparation { .. }]));
+        // 0.8/fc is 1.68 resolution cells of this 21-coefficient band: resolved by the record,
+        // below the proven threshold; 0.4/fc is 0.84 cells: under-resolved.
         let w = Diagnostics::describe(&data, &at(0.8)).warnings;
-        assert!(matches!(w[..], [Warning::BelowRayleigh { .. }]));
+        assert!(matches!(w[..], [Warning::BelowProvenSeparation { .. }]));
+        let w = Diagnostics::describe(&data, &at(0.4)).warnings;
+        assert!(matches!(w[..], [Warning::UnderResolved { .. }]));
         assert!(w[0].to_string().starts_with("UNDER-RESOLVED"));
     }
 

@@ -48,6 +48,7 @@ mod greedy;
 pub mod grid;
 pub mod interop;
 mod kernels;
+pub mod lines;
 pub mod model;
 mod noise;
 mod postprocess;
@@ -69,7 +70,7 @@ pub use bounds::{crb, crb_for, single_tone_position_variance, Crb, SpikeBound};
 pub use dual::{Certificate, DualPolynomial};
 pub use error::{Error, Result};
 pub use estimator::{
-    Diagnostics, DiagnosticsBuilder, Estimate, Estimator, NoiseLevel, Status, Warning,
+    Diagnostics, DiagnosticsBuilder, Estimate, Estimator, Line, NoiseLevel, Status, Warning,
 };
 pub use eval::metrics::{MatchSettings, Score};
 pub use eval::scenario::{AmplitudeKind, Sample, Scenario};
@@ -77,8 +78,8 @@ pub use greedy::{Greedy, GreedySettings};
 pub use grid::{GridL1, GridSettings};
 pub use kernels::refine::RefineSettings;
 pub use model::{
-    wrap_distance, Domain, Measurements, Spike, Spikes, CLASSICAL_SEPARATION_FC,
-    PROVEN_SEPARATION_FC,
+    wrap_distance, Domain, Measurements, Scale, Spike, Spikes, Trend, TrendFit,
+    CLASSICAL_SEPARATION_FC, PROVEN_SEPARATION_FC,
 };
 pub use noise::{estimate_sigma, residual_sigma, SigmaEstimate, SigmaMethod};
 pub use postprocess::PostProcess;

@@ -114,7 +114,7 @@ fn under_resolved_cases_carry_warnings() {
                     est.diagnostics
                         .warnings
                         .iter()
-                        .any(|w| matches!(w, Warning::BelowRayleigh { .. })),
+                        .any(|w| matches!(w, Warning::UnderResolved { .. })),
                     "{name}"
                 );
             }

@@ -271,7 +271,7 @@ fn assert_close_pair_honest(est: &dyn Estimator) {
                     // called solved.
                     assert!(
                         e.status != Status::Solved
-                            || has(&e, |w| matches!(w, Warning::BelowRayleigh { .. })),
+                            || has(&e, |w| matches!(w, Warning::UnderResolved { .. })),
                         "{}: solved without a separation warning: {:?} (truth {truth:?})",
                         est.name(),
                         e.spikes

@@ -162,7 +162,7 @@ fn list(values: &[f64]) -> String {
 /// threshold.
 fn separation_verdict(estimate: &Estimate) -> &'static str {
     let warned = |pick: fn(&Warning) -> bool| estimate.diagnostics.warnings.iter().any(pick);
-    if warned(|w| matches!(w, Warning::BelowRayleigh { .. })) {
+    if warned(|w| matches!(w, Warning::UnderResolved { .. })) {
         ", Rayleigh limit 1/fc: UNDER-RESOLVED"
     } else if warned(|w| matches!(w, Warning::BelowProvenSeparation { .. })) {
         ": below it"
@@ -326,9 +326,15 @@ mod tests {
                 .unwrap()
                 .to_string()
         };
-        let below = line(vec![Warning::BelowProvenSeparation { separation_fc: 1.1 }]);
+        let below = line(vec![Warning::BelowProvenSeparation {
+            separation_fc: 1.1,
+            separation_cells: 2.2,
+        }]);
         assert!(below.ends_with("threshold 1.26/fc: below it)"), "{below}");
-        let under = line(vec![Warning::BelowRayleigh { separation_fc: 1.1 }]);
+        let under = line(vec![Warning::UnderResolved {
+            separation_fc: 0.4,
+            separation_cells: 0.8,
+        }]);
         assert!(under.contains("UNDER-RESOLVED"), "{under}");
         // Without a separation warning from the library the summary adds no verdict of its own.
         let none = line(vec![]);

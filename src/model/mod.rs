@@ -780,7 +780,10 @@ pub(crate) mod complex_vec {
     use serde::{Serialize, Serializer};
 
     pub fn serialize<S: Serializer>(z: &[Complex64], s: S) -> Result<S::Ok, S::Error> {
-        z.iter().map(|z| [z.re, z.im]).collect::<Vec<_>>().serialize(s)
+        z.iter()
+            .map(|z| [z.re, z.im])
+            .collect::<Vec<_>>()
+            .serialize(s)
     }
 }
 

@@ -129,7 +129,8 @@ impl TrendBasis {
             return Err(Error::InvalidSetting {
                 name: "trend degree",
                 value: degree.to_string(),
-                rule: "the polynomial may take at most half of the measured samples (2(D + 1) ≤ |K|)",
+                rule:
+                    "the polynomial may take at most half of the measured samples (2(D + 1) ≤ |K|)",
             });
         }
         let (lo, hi) = user_indices
