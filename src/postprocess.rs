@@ -24,6 +24,38 @@ use crate::kernels::lstsq;
 use crate::kernels::refine::{refine, RefineSettings};
 use crate::model::{wrap, wrap_difference, Measurements, Spikes};
 
+/// The amplitude a spike shows in the data: `|a|`, or with a trend `|a|·‖P⊥φ(τ)‖/‖φ(τ)‖` — the part
+/// of its atom that the polynomial cannot fit (a line within a resolution cell of zero frequency is
+/// mostly trend, and its least-squares amplitude says nothing about its significance).
+fn strength(data: &Measurements, spike: &crate::model::Spike) -> f64 {
+    let Some(basis) = data.trend_basis() else {
+        return spike.amplitude.norm();
+    };
+    let mut atom: Vec<num_complex::Complex64> = data
+        .indices()
+        .iter()
+        .map(|&k| crate::model::atom(k, spike.position))
+        .collect();
+    basis.project(&mut atom);
+    let visible = atom.iter().map(|z| z.norm_sqr()).sum::<f64>() / data.len() as f64;
+    spike.amplitude.norm() * visible.sqrt()
+}
+
+/// `positions` without the `j`-th; for a real record also without its mirror image (the line is the
+/// pair, and the least squares would put a lone member's mirror back).
+fn remove_line(data: &Measurements, positions: &[f64], j: usize) -> Vec<f64> {
+    let mirror = 1.0 - positions[j];
+    let merge = crate::kernels::lstsq::MIRROR_MERGE_FC / data.fc();
+    positions
+        .iter()
+        .enumerate()
+        .filter(|&(i, &p)| {
+            i != j && !(data.is_real() && crate::model::wrap_distance(p, mirror) <= merge)
+        })
+        .map(|(_, &p)| p)
+        .collect()
+}
+
 /// Rounds of polish and merge before giving up on a support that keeps collapsing.
 const MAX_POLISH_PASSES: usize = 4;
 
@@ -173,10 +205,10 @@ impl PostProcess {
             }
             let amax = max_abs(&spikes);
             let floor = self.floor(data, sigma, amax);
-            if spikes.iter().any(|s| s.amplitude.norm() < floor) {
+            if spikes.iter().any(|s| strength(data, s) < floor) {
                 let kept: Vec<f64> = spikes
                     .iter()
-                    .filter(|s| s.amplitude.norm() >= floor)
+                    .filter(|s| strength(data, s) >= floor)
                     .map(|s| s.position)
                     .collect();
                 spikes = lstsq::fit(data, &kept)?;
@@ -222,8 +254,7 @@ impl PostProcess {
                 if !crowded {
                     continue;
                 }
-                let mut others = positions.clone();
-                others.remove(j);
+                let others = remove_line(data, &positions, j);
                 let without = self.refit(data, &others)?;
                 let rise = data.residual_norm(&without).powi(2) - base;
                 if weakest.as_ref().is_none_or(|(r, _)| rise < *r) {
@@ -252,11 +283,10 @@ impl PostProcess {
             let weakest = spikes
                 .iter()
                 .enumerate()
-                .min_by(|a, b| a.1.amplitude.norm().total_cmp(&b.1.amplitude.norm()));
+                .min_by(|a, b| strength(data, a.1).total_cmp(&strength(data, b.1)));
             match weakest {
-                Some((i, s)) if s.amplitude.norm() < floor => {
-                    positions = spikes.positions();
-                    positions.remove(i);
+                Some((i, s)) if strength(data, s) < floor => {
+                    positions = remove_line(data, &spikes.positions(), i);
                 }
                 _ => return Ok(spikes),
             }

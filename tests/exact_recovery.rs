@@ -99,7 +99,9 @@ fn reference_subsampled_and_time_domain_cases() {
     }
 }
 
-/// Below the Rayleigh limit the estimate must say so plainly whenever it reports lines that close.
+/// Below the record's resolution `1/N` the estimate must say plainly that the lines are
+/// under-resolved; between `1/N` and the proven threshold `1.26/fc` it must give the separate
+/// caution (design.md, "Resolution, two units").
 #[test]
 fn under_resolved_cases_carry_warnings() {
     for name in case_names("nl_")
@@ -108,13 +110,20 @@ fn under_resolved_cases_carry_warnings() {
     {
         let (sample, fc) = case_sample(&name);
         let est = Tv::exact().estimate(&sample.data).unwrap();
-        if let Some(sep) = est.diagnostics.separation_fc {
-            if sep < 1.0 {
+        let warned = |pick: fn(&Warning) -> bool| est.diagnostics.warnings.iter().any(pick);
+        if let (Some(sep), Some(cells)) = (
+            est.diagnostics.separation_fc,
+            est.diagnostics.separation_cells,
+        ) {
+            assert!((cells - sep * (2.0 * fc + 1.0) / fc).abs() < 1e-9);
+            if cells < 1.0 {
                 assert!(
-                    est.diagnostics
-                        .warnings
-                        .iter()
-                        .any(|w| matches!(w, Warning::UnderResolved { .. })),
+                    warned(|w| matches!(w, Warning::UnderResolved { .. })),
+                    "{name}"
+                );
+            } else if sep < finespike::PROVEN_SEPARATION_FC {
+                assert!(
+                    warned(|w| matches!(w, Warning::BelowProvenSeparation { .. })),
                     "{name}"
                 );
             }

@@ -338,7 +338,12 @@ pub(crate) fn prepare(
             advice: "a single sample holds no position information",
         });
     }
-    let order_selection = settings.order.validated()?;
+    let order_selection = match settings.order.validated()? {
+        // A real record's lines are mirror pairs: a given number of lines is twice as many
+        // exponentials.
+        OrderSelection::Given(r) if data.is_real() => OrderSelection::Given(2 * r),
+        o => o,
+    };
     // Contiguous and sorted: h_m = y_{k0+m}.
     let seq: Vec<c64> = data.values().to_vec();
     let l = settings.window.unwrap_or(n / 2 + 1);

@@ -37,7 +37,8 @@ use crate::kernels::rank::DEFAULT_RANK_TOLERANCE;
 /// How the model order is chosen (a setting of every subspace estimator).
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub enum OrderSelection {
-    /// The order is known: exactly this many spikes.
+    /// The order is known: exactly this many spikes (for a real-valued record, this many lines, i.e.
+    /// twice as many complex exponentials).
     Given(usize),
     /// The default: the numerical rank (with [`DEFAULT_RANK_TOLERANCE`]) when the data are exact to
     /// rounding — the Hankel singular values drop below `DEFAULT_RANK_TOLERANCE · s_1` — and MDL
