@@ -320,6 +320,28 @@ def reference_fit(name, n, x, degree, count, rate, unit, floor_cps=0.0, extra_un
     return ref
 
 
+def check_from_truth(n, x, degree, truth, ref):
+    """Verification only (invented records): the same fit started from the truth must reach the
+    same minimum as the periodogram start; the reference values themselves never use the truth."""
+    model = Model(n, x, degree)
+    p = list(model.poly_only())
+    rate = truth["rate"] or 1.0
+    for line in truth["lines"]:
+        f = line["frequency"] / rate
+        psi = line["phase"] + 2 * np.pi * f * model.c
+        p += [f, line["amplitude"] * np.cos(psi), -line["amplitude"] * np.sin(psi)]
+    r = model.fit(np.array(p))
+    std = math.sqrt(float(np.sum(r.fun**2)) / (len(model.x) - len(p)))
+    got = sorted(r.x[degree + 1 :: 3])
+    ours = sorted(ln["frequency_cps"] for ln in ref["lines"])
+    diff = max(abs(a - b) for a, b in zip(got, ours))
+    rel = abs(std - ref["residual_std"]) / ref["residual_std"]
+    if diff > 1e-9 or rel > 1e-9:
+        raise RuntimeError("the periodogram start did not reach the minimum found from the truth")
+    return {"same_minimum": True, "max_frequency_difference_cps": diff,
+            "relative_residual_std_difference": rel}
+
+
 # ---------------------------------------------------------------------------------------------
 # the records
 # ---------------------------------------------------------------------------------------------
@@ -457,6 +479,10 @@ def main():
 
     for name, n, x, degree, count, rate, unit, floor, extra, notes in made:
         ref = reference_fit(name, n, x, degree, count, rate, unit, floor, extra, notes)
+        truth_path = os.path.join(HERE, name + ".truth.json")
+        if os.path.exists(truth_path):
+            ref["check_from_truth"] = check_from_truth(n, x, degree, json.load(open(truth_path)), ref)
+            write_json(name + ".ref.json", ref)
         print(
             "%-11s N=%5d present=%5d sigma=%.4g lag1=%.3f flat=%.3f  %s"
             % (
