@@ -10,17 +10,21 @@ Used for BEFORE.md (the tool as of the commit named there) and meant to be run a
 The tool of that commit reads `n,re,im`, so each record is copied to OUTDIR with im = 0; indices
 are kept as written unless the tool refuses them (exit 3 naming an index), then shifted to start
 at 0 (a shift changes phases, not frequencies).  Every method runs with its default settings and
-again with --sigma set to the reference fit's residual std, under `timeout 300`, one at a time.
+again with --sigma set to the reference fit's residual std, under `timeout 300`, one at a time; wall time and the CPU time (user + system) of the process are
+recorded with the load average before each run, since the machine may be shared.
 
 Scoring (the tool reports complex spikes at positions p in [0, 1) cycles/sample):
 * fold each position to f = p (p <= 1/2) or 1 - p (p > 1/2), conjugating the amplitude of the
   folded ones, so the pair (A/2)e^{+-i phi} at +-f of a real cosine becomes one line A e^{i phi};
 * group folded spikes less than half a bin (0.5/span) apart into one line: frequency = |amplitude|
   weighted mean, amplitude = |sum of the members' amplitudes|;
-* match lines to the reference lines one-to-one (scipy linear_sum_assignment on |f - f_ref|),
-  accepting a match within one bin (1/span); the rest of the reference lines are missed, the rest
+* match lines to the reference lines one-to-one (scipy linear_sum_assignment on |f - f_ref|, pairs
+  more than one bin (1/span) apart never matched); the rest of the reference lines are missed, the rest
   of the lines are extra.
-Frequency errors are in the record's unit (Hz, cycles/week, cycles/year, cycles/sample).
+Frequency errors are in the record's unit (Hz, cycles/week, cycles/year, cycles/sample).  Extra lines
+are counted below and above 2 bins (2/span) from zero frequency; the strongest single spike above 2 bins
+is shown as 2|a| (a real cosine's spikes carry A/2 each) so a near-cancelling pair that the grouping merges
+still shows when it is the largest thing the tool reported.
 """
 
 import json
@@ -61,10 +65,14 @@ def run_one(path, method, sigma, stem):
     cmd = ["timeout", str(TIMEOUT), BIN, "recover", "--input", path, "--method", method]
     if sigma is not None:
         cmd += ["--sigma", repr(sigma)]
+    load = float(open("/proc/loadavg").read().split()[0])
     t0 = time.monotonic()
     with open(stem + ".json", "w") as out, open(stem + ".err", "w") as err:
-        rc = subprocess.call(cmd, stdout=out, stderr=err)
-    return rc, time.monotonic() - t0, cmd
+        proc = subprocess.Popen(cmd, stdout=out, stderr=err)
+        _, status, usage = os.wait4(proc.pid, 0)  # usage includes the tool, waited for by timeout
+        proc.returncode = os.waitstatus_to_exitcode(status)
+    secs = time.monotonic() - t0
+    return proc.returncode, secs, cmd, usage.ru_utime + usage.ru_stime, load
 
 
 def run(outdir):
@@ -75,8 +83,9 @@ def run(outdir):
         for line in open(log):
             r = json.loads(line)
             done.add((r["record"], r["method"], r["setting"]))
-    commit = subprocess.run(["git", "-C", ROOT, "rev-parse", "--short", "HEAD"], capture_output=True,
-                            text=True).stdout.strip()
+    # the last commit outside this folder: the code the binary was built from (if built at HEAD)
+    commit = subprocess.run(["git", "-C", ROOT, "log", "-1", "--format=%h", "--", ".",
+                             ":(exclude)tests/refdata/records"], capture_output=True, text=True).stdout.strip()
     for name in RECORDS:
         ref = json.load(open(os.path.join(HERE, name + ".ref.json")))
         path, shifted = write_copy(outdir, name, False), False
@@ -86,16 +95,18 @@ def run(outdir):
                     continue
                 sigma = ref["residual_std"] if setting == "sigma" else None
                 stem = os.path.join(outdir, "%s.%s.%s" % (name, method, setting))
-                rc, secs, cmd = run_one(path, method, sigma, stem)
+                rc, secs, cmd, cpu, load = run_one(path, method, sigma, stem)
                 if rc == 3 and not shifted and "index" in open(stem + ".err").read():
                     path, shifted = write_copy(outdir, name, True), True
-                    rc, secs, cmd = run_one(path, method, sigma, stem)
+                    rc, secs, cmd, cpu, load = run_one(path, method, sigma, stem)
                 rec = {"record": name, "method": method, "setting": setting, "sigma": sigma,
-                       "shifted": shifted, "rc": rc, "seconds": secs, "commit": commit,
+                       "shifted": shifted, "rc": rc, "seconds": secs, "cpu_seconds": cpu,
+                       "load_before": load, "commit": commit,
                        "cmd": " ".join(cmd[2:])}
                 with open(log, "a") as f:
                     f.write(json.dumps(rec) + "\n")
-                print("%-10s %-6s %-7s rc=%d %7.2fs" % (name, method, setting, rc, secs), flush=True)
+                print("%-10s %-6s %-7s rc=%d %7.2fs wall %7.2fs cpu load %.1f"
+                      % (name, method, setting, rc, secs, cpu, load), flush=True)
 
 
 def fold(spikes, span):
@@ -127,10 +138,10 @@ def fmt(v):
 
 def table(outdir):
     rows = [json.loads(l) for l in open(os.path.join(outdir, "runs.jsonl"))]
-    print("| method | record | σ | time (s) | exit | status | spikes reported → lines (±f folded) | extra lines"
+    print("| method | record | σ | wall / CPU time (s) (load average before) | exit | status | spikes reported → lines (±f folded) | extra lines"
           " below 2 bins | extra lines above (largest \\|A\\| at f) | frequency error per reference line |"
-          " \\|A\\| / A_ref | warnings |")
-    print("|---|---|---|---:|---:|---|---|---:|---|---|---|---|")
+          " \\|A\\| / A_ref | strongest spike above 2 bins: 2\\|a\\| at f | warnings |")
+    print("|---|---|---|---:|---:|---|---|---:|---|---|---|---|---|")
     for r in sorted(rows, key=lambda r: (RECORDS.index(r["record"]), METHODS.index(r["method"]),
                                          r["setting"])):
         ref = json.load(open(os.path.join(HERE, r["record"] + ".ref.json")))
@@ -138,7 +149,7 @@ def table(outdir):
         span = ref["span"]
         stem = os.path.join(outdir, "%s.%s.%s" % (r["record"], r["method"], r["setting"]))
         sigma = "default" if r["setting"] == "default" else "%.4g" % r["sigma"]
-        status, found, low, extra, errs, amps, warns = "", "", "", "", "", "", ""
+        status, found, low, extra, errs, amps, warns, top = "", "", "", "", "", "", "", ""
         if r["rc"] == 124:
             status = "timeout (%d s)" % TIMEOUT
         else:
@@ -162,16 +173,27 @@ def table(outdir):
                 tags = []
                 for w in diag.get("warnings", []):
                     head = w.split(":")[0]
-                    tags.append(head if head.isupper() else " ".join(w.split()[:4]) + "…")
+                    tags.append(head if head.isupper() else " ".join(w.split()[:7]) + "…")
                 warns = "; ".join(tags)
                 if isinstance(status, dict):
                     status = json.dumps(status)
                 lines = fold(out.get("spikes", []), span)
+                def folded(s):
+                    p = s["position"] % 1.0
+                    return min(p, 1.0 - p)
+
+                above = [s for s in out.get("spikes", []) if folded(s) >= 2.0 / span]
+                if above:
+                    s = max(above, key=lambda s: abs(complex(*s["amplitude"])))
+                    top = "%s at %s" % (fmt(2 * abs(complex(*s["amplitude"]))), fmt(folded(s) * rate))
                 found = "%d → %d" % (len(out.get("spikes", [])), len(lines))
                 ref_f = [ln["frequency_cps"] for ln in ref["lines"]]
                 if lines:
                     cost = np.abs(np.subtract.outer(ref_f, [ln["f"] for ln in lines]))
-                    ri, li = linear_sum_assignment(cost)
+                    # pairs further apart than a bin cost the same large amount, so the assignment
+                    # never shifts a chain of good matches to save on one bad one
+                    gated = np.where(cost <= 1.0 / span, cost, 1e6)
+                    ri, li = linear_sum_assignment(gated)
                 else:
                     ri, li = np.array([], int), np.array([], int)
                 matched = {}
@@ -196,9 +218,12 @@ def table(outdir):
                 if far:
                     big = max(far, key=lambda ln: ln["amp"])
                     extra += " (%s at %s)" % (fmt(big["amp"]), fmt(big["f"] * rate))
-        print("| %s | %s | %s | %.2f | %d | %s | %s | %s | %s | %s | %s | %s |"
-              % (r["method"], r["record"], sigma, r["seconds"], r["rc"], status, found, low, extra, errs,
-                 amps, warns))
+        secs = "%.2f" % r["seconds"]
+        if "cpu_seconds" in r:
+            secs += " / %.2f (load %.1f)" % (r["cpu_seconds"], r["load_before"])
+        print("| %s | %s | %s | %s | %d | %s | %s | %s | %s | %s | %s | %s | %s |"
+              % (r["method"], r["record"], sigma, secs, r["rc"], status, found, low, extra, errs,
+                 amps, top, warns))
 
 
 if __name__ == "__main__":
