@@ -174,7 +174,7 @@ def table(outdir):
                 for w in diag.get("warnings", []):
                     head = w.split(":")[0]
                     tags.append(head if head.isupper() else " ".join(w.split()[:7]) + "…")
-                warns = "; ".join(tags)
+                warns = "; ".join(tags).replace("|", "\\|")
                 if isinstance(status, dict):
                     status = json.dumps(status)
                 lines = fold(out.get("spikes", []), span)
