@@ -139,7 +139,10 @@ pub enum Warning {
         /// The same in the record's resolution cells `1/N`.
         separation_cells: f64,
     },
-    /// Recovered lines closer than the record's resolution `1/N` (one periodogram bin; `1/(NΔt)` Hz).
+    /// Recovered lines closer than the record's resolution `1/N` (one periodogram bin; `1/(NΔt)` Hz):
+    /// the classical resolution limit of a record of `N` samples, about the width of the periodogram's
+    /// main lobe (Stoica & Moses 2005, *Spectral Analysis of Signals*, §2.4 — section recalled from
+    /// memory). The TV theory counts in `1/fc = 2/(N − 1)`, about two of these cells.
     UnderResolved {
         /// Minimum separation of the recovered lines, in the TV theory's unit `1/fc`.
         separation_fc: f64,

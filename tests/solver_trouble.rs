@@ -161,7 +161,8 @@ fn single_samples() -> Vec<Measurements> {
     vec![
         Measurements::fourier(8, &[0], &[c(1.0, 0.0)]).unwrap(),
         Measurements::fourier(8, &[3], &[c(0.3, -1.0)]).unwrap(),
-        Measurements::from_time_subset(&[5], &[c(2.0, 1.0)]).unwrap(),
+        // Sample n = 5 alone in the record 0..=5.
+        Measurements::in_band(-5, 0, &[-5], &[c(2.0, 1.0)], Domain::Time).unwrap(),
         Measurements::in_band(0, 1, &[1], &[c(1.0, 0.0)], Domain::Fourier).unwrap(),
     ]
 }

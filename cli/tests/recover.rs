@@ -75,6 +75,9 @@ fn recover_json_has_a_fixed_shape() {
             ("model_order", &["object", "null"]),
             ("residual_ratio", &["number", "null"]),
             ("crb_std_position_fc", &["array", "null"]),
+            ("separation_cells", &["number", "null"]),
+            ("lines", &["array"]),
+            ("trend", &["object", "null"]),
         ];
         let mut keys: Vec<&str> = d.keys().map(|k| k.as_str()).collect();
         keys.sort_unstable();
