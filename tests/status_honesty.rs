@@ -2,10 +2,11 @@
 //! documented stop reason (not a numerical failure) that tells the user what to do, and `sdp` solves
 //! a record with a large offset once the offset is fitted as a trend.
 //!
-//! Every record here is invented and seeded: `x_n = offset + slope·n + cos(2π·0.1·n)
-//! + 0.5 cos(2π·0.13·n + 0.7) + noise`, N = 2000, real-valued, handed over as complex samples with
-//! zero imaginary part (as a user with a real record would before real records were supported).
-//! The check values are the invented line frequencies and the statuses; no value is tuned to a run.
+//! Every record here is invented and seeded, N = 2000 real values
+//! `x_n = offset + slope·n + cos(2π·0.1·n) + 0.5 cos(2π·0.13·n + 0.7) + noise`, handed over as
+//! complex samples with zero imaginary part (as a user with a real record would before real records
+//! were supported). The check values are the invented line frequencies and the statuses; no value
+//! is tuned to a run.
 
 use finespike::model::Trend;
 use finespike::{Complex64, Estimator, Greedy, Measurements, Status, Tv, Warning};
