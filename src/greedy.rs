@@ -258,7 +258,7 @@ pub enum GreedyStop {
         /// Where the last spike tried was added (cycles per sample for a time record), if one was.
         candidate: Option<f64>,
         /// Time record without a fitted trend whose stall happened at zero frequency (the candidate
-        /// or a fitted spike within two resolution cells `2/N` of it): an offset or trend the lines
+        /// within two resolution cells `2/N` of it): an offset, trend or slow wander the lines
         /// cannot model.
         offset_or_trend: bool,
         /// Final `‖r‖ / target` (above 1), the target being the noise ball radius; `None` for
@@ -306,9 +306,9 @@ impl fmt::Display for GreedyStop {
                 ..
             } => f.write_str(
                 "stopped before the residual reached the noise level: the next spike slides into \
-                 the component at zero frequency — the record has a large offset or trend that \
-                 lines cannot model: fit it with a trend (Measurements::with_trend, e.g. a mean \
-                 or linear trend)",
+                 the component at zero frequency — the record has an offset, trend or slow wander \
+                 that lines cannot model: fit it with a trend (Measurements::with_trend, e.g. a \
+                 mean or linear trend), or give the noise level (sigma)",
             ),
             GreedyStop::NoProgress {
                 residual_over_target,
@@ -487,7 +487,7 @@ impl Greedy {
                     (true, None) => GreedyStop::ExactFit,
                     (false, _) => GreedyStop::NoProgress {
                         candidate,
-                        offset_or_trend: at_zero_frequency(data, candidate, &spikes.positions()),
+                        offset_or_trend: at_zero_frequency(data, candidate),
                         residual_over_target: sigma
                             .map(|s| final_rn / noise_ball_radius(s, model.len())),
                     },
@@ -534,17 +534,15 @@ fn no_progress(candidate: Option<f64>) -> GreedyStop {
     }
 }
 
-/// A time record without a fitted trend whose last candidate, or one of whose fitted spikes, lies
-/// within two resolution cells `2/N` of zero frequency: the stall is the record's offset or trend.
-fn at_zero_frequency(data: &Measurements, candidate: Option<f64>, positions: &[f64]) -> bool {
+/// A time record without a fitted trend whose last candidate lies within two resolution cells `2/N`
+/// of zero frequency: the stall is the record's offset, trend or slow wander (an offset alone is
+/// one spike at zero frequency and fits; what stalls is the next spike sliding into it).
+fn at_zero_frequency(data: &Measurements, candidate: Option<f64>) -> bool {
     if data.domain() != Domain::Time || data.trend_basis().is_some() {
         return false;
     }
     let cell = 1.0 / data.band_len() as f64;
-    candidate
-        .iter()
-        .chain(positions)
-        .any(|&t| wrap_distance(t, 0.0) <= 2.0 * cell)
+    candidate.is_some_and(|t| wrap_distance(t, 0.0) <= 2.0 * cell)
 }
 
 /// Least-squares amplitudes, then the joint slide (λ = 0); a failed amplitude fit (coincident
@@ -619,10 +617,12 @@ mod tests {
             .map(|i| Complex64::new(2.0 + 0.05 * i as f64, 0.0))
             .collect();
         let data = Measurements::from_time_samples(&z).unwrap();
-        assert!(at_zero_frequency(&data, Some(0.5 / n as f64), &[]));
-        assert!(!at_zero_frequency(&data, Some(0.25), &[0.3]));
+        assert!(at_zero_frequency(&data, Some(0.5 / n as f64)));
+        assert!(at_zero_frequency(&data, Some(1.0 - 1.5 / n as f64)));
+        assert!(!at_zero_frequency(&data, Some(0.25)));
+        assert!(!at_zero_frequency(&data, None));
         let detrended = data.with_trend(crate::model::Trend::Linear).unwrap();
-        assert!(!at_zero_frequency(&detrended, Some(0.0), &[0.0]));
+        assert!(!at_zero_frequency(&detrended, Some(0.0)));
         let stop = GreedyStop::NoProgress {
             candidate: Some(0.0),
             offset_or_trend: true,

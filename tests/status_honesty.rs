@@ -229,3 +229,61 @@ fn sweep_offsets() {
         }
     }
 }
+
+/// Figures for the report (not a check): status, stop reason and time of `greedy` and `sdp` on the
+/// invented records of this file.
+#[test]
+#[ignore]
+fn figures() {
+    let cases = [
+        (
+            "offset 2, trend 0.001, white",
+            record(2.0, 0.001, 0.0, 1),
+            None,
+        ),
+        (
+            "same, Trend::Linear",
+            record(2.0, 0.001, 0.0, 1),
+            Some(Trend::Linear),
+        ),
+        ("offset 2, white", record(2.0, 0.0, 0.0, 1), None),
+        (
+            "same, Trend::Mean",
+            record(2.0, 0.0, 0.0, 1),
+            Some(Trend::Mean),
+        ),
+        ("offset 2, AR(1) 0.9", record(2.0, 0.0, 0.9, 1), None),
+        (
+            "same, Trend::Mean",
+            record(2.0, 0.0, 0.9, 1),
+            Some(Trend::Mean),
+        ),
+    ];
+    for (what, data, trend) in cases {
+        let data = match trend {
+            Some(t) => data.with_trend(t).unwrap(),
+            None => data,
+        };
+        let t = std::time::Instant::now();
+        let fit = Greedy::default().estimate_with_stop(&data).unwrap();
+        eprintln!(
+            "{what} | greedy | {} | {} spikes | {:.2} s | {}",
+            fit.estimate.status,
+            fit.estimate.spikes.len(),
+            t.elapsed().as_secs_f64(),
+            fit.stop
+        );
+        // sdp on the red-noise records takes minutes (the noise level is estimated too low).
+        if !what.contains("AR(1)") && !(what.starts_with("same") && fit.estimate.spikes.len() > 10)
+        {
+            let t = std::time::Instant::now();
+            let est = Tv::default().estimate(&data).unwrap();
+            eprintln!(
+                "{what} | sdp | {} | {} spikes | {:.2} s",
+                est.status,
+                est.spikes.len(),
+                t.elapsed().as_secs_f64()
+            );
+        }
+    }
+}
