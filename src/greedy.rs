@@ -14,6 +14,26 @@
 //! [`crate::Tv::delta`]), when a requested number of spikes is reached, or, for exact data, when the
 //! fit is exact to `1e-10‖y‖`. The result is polished by the shared Levenberg–Marquardt polish on the exact model.
 //!
+//! # Why the fit stopped, and its status
+//!
+//! Every stop has a documented reason, a [`GreedyStop`] ([`Greedy::estimate_with_stop`]); the
+//! status follows from it and from the final, polished fit, which is checked against the same target:
+//!
+//! | stop | status |
+//! |---|---|
+//! | residual target met (after the polish), count reached, exact fit, zero data | [`Status::Solved`] |
+//! | [`GreedyStop::IterationLimit`], [`GreedyStop::SpikeLimit`], [`GreedyStop::NoProgress`] | [`Status::IterationLimit`] |
+//! | exact data, [`GreedyStop::NoProgress`] with the final fit within `1e-6‖y‖` | [`Status::ReducedAccuracy`] |
+//! | [`GreedyStop::NonFinite`] (a residual or amplitude that is NaN or infinite) | [`Status::NumericalFailure`] |
+//!
+//! A stop short of the residual target is a normal outcome of a greedy method, not a numerical
+//! failure: the target may be out of reach because the noise level is underestimated (coloured
+//! noise, slow wander), or because the record carries an offset or trend that a sum of lines
+//! separated by more than the merge distance cannot model (the best new spike then slides into the
+//! component at zero frequency). [`GreedyStop::NoProgress`] says which, and its text tells the user
+//! what to do. [`Status::IterationLimit`] is the existing status nearest to "stopped before the
+//! target": not usable, not a failure.
+//!
 //! This is ADCG (Boyd, Schiebinger & Recht 2017, SIAM J. Optim. 27(2), Alg. 2) without the norm
 //! constraint — a conditional-gradient selection with a nonconvex local improvement, as also in
 //! Sliding Frank–Wolfe (Denoyelle, Duval, Peyré & Soubies 2019, Inverse Problems 36(1)). Its status
@@ -28,8 +48,9 @@ use crate::kernels::peaks::scan;
 use crate::kernels::refine::{refine, RefineSettings};
 use crate::kernels::slide::{slide, Point};
 use crate::kernels::{noise_ball_radius, EXACT_STOP};
-use crate::model::{wrap, Measurements};
+use crate::model::{wrap, wrap_distance, Domain, Measurements};
 use crate::noise::resolve_noise as resolve_sigma;
+use std::fmt;
 use std::time::Instant;
 
 /// Settings of the greedy fit; the defaults work for the demo and test problems.
@@ -197,12 +218,133 @@ impl Greedy {
     }
 }
 
-/// Why the loop stopped.
-enum Stop {
-    Rule,
-    Limit,
-    Stalled,
+/// Why the greedy fit stopped (module docs): the reason behind its [`Status`].
+///
+/// ```
+/// use finespike::{Estimator, Greedy, Scenario, Status};
+/// // An invented scene: 3 lines at fc = 32, 2/fc apart, 30 dB.
+/// let sample = Scenario::new(32, 3).with_separation(2.0).with_snr_db(30.0).with_seed(4).generate()?;
+/// let fit = Greedy::with_sigma(sample.sigma).estimate_with_stop(&sample.data)?;
+/// assert!(fit.stop.reached_target());
+/// assert_eq!(fit.estimate.status, Status::Solved);
+/// # Ok::<(), finespike::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
+pub enum GreedyStop {
+    /// The residual reached the noise level's χ² bound `σ√(|K| + 2√|K|)`.
+    ResidualTarget,
+    /// The requested number of spikes was reached.
+    Count,
+    /// Exact data fitted to `1e-10‖y‖`.
+    ExactFit,
+    /// The data are zero: no spike.
+    ZeroData,
+    /// [`GreedySettings::max_iter`] spikes were added without reaching the target.
+    IterationLimit {
+        /// Iterations run.
+        iterations: usize,
+    },
+    /// The fit holds `⌊2|K|/3⌋` spikes, as many as the `2|K|` real data values can determine,
+    /// without reaching the target (the noise level is far too low for the record).
+    SpikeLimit {
+        /// Spikes held.
+        spikes: usize,
+    },
+    /// No new spike lowers the residual any more, and the residual is above the target: the best
+    /// new spike slid into (and was merged with) an existing one or fell below the floor, or no
+    /// correlation peak was left away from the support.
+    NoProgress {
+        /// Where the last spike tried was added (cycles per sample for a time record), if one was.
+        candidate: Option<f64>,
+        /// Time record without a fitted trend whose stall happened at zero frequency (the candidate
+        /// within two resolution cells `2/N` of it): an offset, trend or slow wander the lines
+        /// cannot model.
+        offset_or_trend: bool,
+        /// Final `‖r‖ / target` (above 1), the target being the noise ball radius; `None` for
+        /// exact data.
+        residual_over_target: Option<f64>,
+    },
+    /// A residual or amplitude became NaN or infinite: the fit of the last finite iterate is
+    /// reported.
+    NonFinite,
 }
+
+impl GreedyStop {
+    /// True when the stopping rule was met (residual target, count, exact fit or zero data).
+    pub fn reached_target(self) -> bool {
+        matches!(
+            self,
+            GreedyStop::ResidualTarget
+                | GreedyStop::Count
+                | GreedyStop::ExactFit
+                | GreedyStop::ZeroData
+        )
+    }
+}
+
+impl fmt::Display for GreedyStop {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            GreedyStop::ResidualTarget => f.write_str("the residual reached the noise level"),
+            GreedyStop::Count => f.write_str("the requested number of spikes was reached"),
+            GreedyStop::ExactFit => f.write_str("the exact data are fitted to rounding level"),
+            GreedyStop::ZeroData => f.write_str("the data are zero"),
+            GreedyStop::IterationLimit { iterations } => write!(
+                f,
+                "stopped after {iterations} iterations (the iteration limit) before the residual \
+                 reached the noise level: raise the limit, or check the noise level"
+            ),
+            GreedyStop::SpikeLimit { spikes } => write!(
+                f,
+                "stopped at {spikes} spikes, as many as the data can determine, before the residual \
+                 reached the noise level: the noise level is far too low for this record — give it \
+                 (sigma), or ask for a number of spikes"
+            ),
+            GreedyStop::NoProgress {
+                offset_or_trend: true,
+                ..
+            } => f.write_str(
+                "stopped before the residual reached the noise level: the next spike slides into \
+                 the component at zero frequency — the record has an offset, trend or slow wander \
+                 that lines cannot model: fit it with a trend (Measurements::with_trend, e.g. a \
+                 mean or linear trend), or give the noise level (sigma)",
+            ),
+            GreedyStop::NoProgress {
+                residual_over_target,
+                ..
+            } => {
+                f.write_str("stopped before the residual reached the noise level: no further spike lowers it")?;
+                if let Some(r) = residual_over_target {
+                    write!(f, " (residual {r:.3}× the target)")?;
+                }
+                f.write_str(
+                    "; the noise level is likely underestimated (coloured noise or slow wander in \
+                     the record) — give the noise level (sigma), fit a trend, or ask for a number \
+                     of spikes",
+                )
+            }
+            GreedyStop::NonFinite => f.write_str(
+                "numerical failure: a residual or amplitude became NaN or infinite; the last \
+                 finite iterate is reported",
+            ),
+        }
+    }
+}
+
+/// A greedy estimate with the reason the fit stopped ([`Greedy::estimate_with_stop`]).
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub struct GreedyFit {
+    /// The estimate, as [`Estimator::estimate`] returns it.
+    pub estimate: Estimate,
+    /// Why the fit stopped; [`Estimate::status`] follows from it (module docs).
+    pub stop: GreedyStop,
+}
+
+/// Largest relative residual of an exact-data fit that stopped without progress and is still
+/// reported as reduced accuracy (the exact-fit tolerance of the convex estimators).
+const EXACT_REDUCED: f64 = 1e-6;
 
 impl Estimator for Greedy {
     fn name(&self) -> &'static str {
@@ -210,6 +352,18 @@ impl Estimator for Greedy {
     }
 
     fn estimate(&self, data: &Measurements) -> Result<Estimate> {
+        self.estimate_with_stop(data).map(|fit| fit.estimate)
+    }
+}
+
+impl Greedy {
+    /// [`Estimator::estimate`], with the reason the fit stopped (`GreedyStop`, in the module docs
+    /// of `greedy`; its `Display` says what to do when the target was not reached).
+    ///
+    /// # Errors
+    /// As [`Estimator::estimate`]: [`Error::RunTooShort`] for a single sample, invalid settings, or
+    /// a noise level that cannot be resolved.
+    pub fn estimate_with_stop(&self, data: &Measurements) -> Result<GreedyFit> {
         let start = Instant::now();
         let settings = self.settings.validated()?;
         // One complex value against three real unknowns per spike: any position fits it exactly.
@@ -242,19 +396,38 @@ impl Estimator for Greedy {
         let mut rn = residual_norm(&model, &point);
         let mut iterations = 0;
         let stop = loop {
-            let counted = self.count.is_some_and(|c| point.len() >= c);
-            if rn <= target || counted || model.zero_data {
-                break Stop::Rule;
+            if !rn.is_finite() {
+                break GreedyStop::NonFinite;
             }
-            if iterations >= settings.max_iter || point.len() >= max_spikes {
-                break Stop::Limit;
+            let counted = self.count.is_some_and(|c| point.len() >= c);
+            if model.zero_data {
+                break GreedyStop::ZeroData;
+            }
+            if rn <= target {
+                break match sigma {
+                    Some(_) => GreedyStop::ResidualTarget,
+                    None => GreedyStop::ExactFit,
+                };
+            }
+            if counted {
+                break GreedyStop::Count;
+            }
+            if iterations >= settings.max_iter {
+                break GreedyStop::IterationLimit { iterations };
+            }
+            if point.len() >= max_spikes {
+                break GreedyStop::SpikeLimit {
+                    spikes: point.len(),
+                };
             }
             iterations += 1;
             let e = model.atoms(&point.tau);
             let r = model.residual(&e, &point.amp);
             let Some(peak) = scan(&model, &r, &point.tau).best_off else {
-                break Stop::Stalled;
+                break no_progress(None);
             };
+            let candidate = Some(wrap(peak.position));
+            let before = point.clone();
             point.tau.push(peak.position);
             point.amp.push(num_complex::Complex64::new(0.0, 0.0));
             fit(&model, &mut point);
@@ -279,8 +452,18 @@ impl Estimator for Greedy {
                 }
             }
             let new_rn = residual_norm(&model, &point);
+            let finite = new_rn.is_finite()
+                && point.tau.iter().all(|t| t.is_finite())
+                && point
+                    .amp
+                    .iter()
+                    .all(|a| a.re.is_finite() && a.im.is_finite());
+            if !finite {
+                point = before;
+                break GreedyStop::NonFinite;
+            }
             if new_rn >= rn * (1.0 - 1e-12) {
-                break Stop::Stalled;
+                break no_progress(candidate);
             }
             rn = new_rn;
         };
@@ -289,24 +472,77 @@ impl Estimator for Greedy {
         }
         let spikes = model.spikes(&point.tau, &point.amp)?;
         let spikes = refine(data, &spikes, settings.refine)?.spikes;
+        // The final, polished fit against the same target, in data units.
+        let final_rn = data.residual_norm(&spikes);
+        let target_data = match sigma {
+            Some(s) => Some(noise_ball_radius(s, model.len())),
+            None if self.count.is_none() => Some(EXACT_STOP * data.norm()),
+            None => None,
+        };
+        let stop = match stop {
+            GreedyStop::NoProgress { candidate, .. } => {
+                let met = target_data.is_some_and(|t| final_rn <= t);
+                match (met, sigma) {
+                    (true, Some(_)) => GreedyStop::ResidualTarget,
+                    (true, None) => GreedyStop::ExactFit,
+                    (false, _) => GreedyStop::NoProgress {
+                        candidate,
+                        offset_or_trend: at_zero_frequency(data, candidate),
+                        residual_over_target: sigma
+                            .map(|s| final_rn / noise_ball_radius(s, model.len())),
+                    },
+                }
+            }
+            other => other,
+        };
         let status = match stop {
-            Stop::Rule => Status::Solved,
-            Stop::Limit => Status::IterationLimit,
-            Stop::Stalled => Status::NumericalFailure,
+            s if s.reached_target() => Status::Solved,
+            GreedyStop::NonFinite => Status::NumericalFailure,
+            GreedyStop::NoProgress { .. }
+                if sigma.is_none()
+                    && self.count.is_none()
+                    && final_rn <= EXACT_REDUCED * data.norm() =>
+            {
+                Status::ReducedAccuracy
+            }
+            _ => Status::IterationLimit,
         };
         let mut diagnostics = Diagnostics::builder(data, &spikes)
             .status(status)
             .iterations(iterations)
             .noise(sigma, estimated);
         diagnostics.solve_seconds = start.elapsed().as_secs_f64();
-        Ok(Estimate {
-            method: self.name(),
-            spikes,
-            status,
-            diagnostics,
-            dual: None,
+        Ok(GreedyFit {
+            estimate: Estimate {
+                method: self.name(),
+                spikes,
+                status,
+                diagnostics,
+                dual: None,
+            },
+            stop,
         })
     }
+}
+
+/// A stop without progress, its cause filled in once the final fit is known.
+fn no_progress(candidate: Option<f64>) -> GreedyStop {
+    GreedyStop::NoProgress {
+        candidate,
+        offset_or_trend: false,
+        residual_over_target: None,
+    }
+}
+
+/// A time record without a fitted trend whose last candidate lies within two resolution cells `2/N`
+/// of zero frequency: the stall is the record's offset, trend or slow wander (an offset alone is
+/// one spike at zero frequency and fits; what stalls is the next spike sliding into it).
+fn at_zero_frequency(data: &Measurements, candidate: Option<f64>) -> bool {
+    if data.domain() != Domain::Time || data.trend_basis().is_some() {
+        return false;
+    }
+    let cell = 1.0 / data.band_len() as f64;
+    candidate.is_some_and(|t| wrap_distance(t, 0.0) <= 2.0 * cell)
 }
 
 /// Least-squares amplitudes, then the joint slide (λ = 0); a failed amplitude fit (coincident
@@ -327,4 +563,80 @@ fn residual_norm(model: &Model, point: &Point) -> f64 {
         .map(|z| z.norm_sqr())
         .sum::<f64>()
         .sqrt()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::Spikes;
+    use num_complex::Complex64;
+
+    /// Two lines of an invented scene, exact data on 33 time samples.
+    fn exact() -> Measurements {
+        let truth = Spikes::from_parts(
+            &[0.1, 0.4],
+            &[Complex64::new(1.0, 0.0), Complex64::new(0.0, 0.5)],
+        )
+        .unwrap();
+        let idx: Vec<i64> = (-32..=0).collect();
+        Measurements::synthesize(&truth, -32, 0, &idx, Domain::Time).unwrap()
+    }
+
+    #[test]
+    fn greedy_stops_say_why() {
+        let fit = Greedy::exact().estimate_with_stop(&exact()).unwrap();
+        assert_eq!(fit.stop, GreedyStop::ExactFit);
+        assert_eq!(fit.estimate.status, Status::Solved);
+        let fit = Greedy::exact()
+            .with_count(1)
+            .unwrap()
+            .estimate_with_stop(&exact())
+            .unwrap();
+        assert_eq!(fit.stop, GreedyStop::Count);
+        let one = GreedySettings::default().with_max_iter(1).unwrap();
+        let fit = Greedy::exact()
+            .with_settings(one)
+            .estimate_with_stop(&exact())
+            .unwrap();
+        assert_eq!(fit.stop, GreedyStop::IterationLimit { iterations: 1 });
+        assert_eq!(fit.estimate.status, Status::IterationLimit);
+        let zero = exact()
+            .with_values(&[Complex64::new(0.0, 0.0); 33])
+            .unwrap();
+        let fit = Greedy::exact().estimate_with_stop(&zero).unwrap();
+        assert_eq!(fit.stop, GreedyStop::ZeroData);
+    }
+
+    /// An invented record of 64 samples, an offset and a linear trend: a candidate within two
+    /// resolution cells of zero frequency is attributed to them, unless a trend is fitted; the stop's
+    /// text says what to do in each case.
+    #[test]
+    fn zero_frequency_stalls_are_attributed_to_an_offset_or_trend() {
+        let n = 64;
+        let z: Vec<Complex64> = (0..n)
+            .map(|i| Complex64::new(2.0 + 0.05 * i as f64, 0.0))
+            .collect();
+        let data = Measurements::from_time_samples(&z).unwrap();
+        assert!(at_zero_frequency(&data, Some(0.5 / n as f64)));
+        assert!(at_zero_frequency(&data, Some(1.0 - 1.5 / n as f64)));
+        assert!(!at_zero_frequency(&data, Some(0.25)));
+        assert!(!at_zero_frequency(&data, None));
+        let detrended = data.with_trend(crate::model::Trend::Linear).unwrap();
+        assert!(!at_zero_frequency(&detrended, Some(0.0)));
+        let stop = GreedyStop::NoProgress {
+            candidate: Some(0.0),
+            offset_or_trend: true,
+            residual_over_target: Some(40.0),
+        };
+        assert!(stop.to_string().contains("fit it with a trend"));
+        let stop = GreedyStop::NoProgress {
+            candidate: Some(0.2),
+            offset_or_trend: false,
+            residual_over_target: Some(3.0),
+        };
+        assert!(stop
+            .to_string()
+            .contains("noise level is likely underestimated"));
+        assert!(!stop.reached_target());
+    }
 }

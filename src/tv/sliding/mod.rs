@@ -83,7 +83,92 @@ pub struct Solution {
     /// True when, for exact data, the vanishing-derivative pre-certificate was built and exceeds 1
     /// somewhere: the support is not certified (the status then is not [`Status::Solved`]).
     pub precertificate_failed: bool,
+    /// Why the solve stopped; [`Solution::status`] follows from it.
+    pub stop: SolverStop,
     frame: Frame,
+}
+
+/// Why a Sliding Frank–Wolfe solve stopped, and what to do when it stopped short of a certified
+/// solution.
+///
+/// | stop | status |
+/// |---|---|
+/// | [`SolverStop::Certified`] | [`Status::Solved`] (or [`Status::ReducedAccuracy`] at the rounding floor) |
+/// | [`SolverStop::Budget`] | [`Status::IterationLimit`] or [`Status::TimeLimit`] |
+/// | [`SolverStop::SupportCap`] | [`Status::IterationLimit`]: the record or the noise level is the problem |
+/// | [`SolverStop::ResidualSearch`] | [`Status::IterationLimit`] |
+/// | [`SolverStop::Uncertified`] | [`Status::ReducedAccuracy`] or [`Status::NumericalFailure`] |
+/// | [`SolverStop::Cycling`], [`SolverStop::Stalled`] | [`Status::NumericalFailure`] |
+///
+/// ```
+/// use finespike::tv::{sliding, Problem};
+/// use finespike::{Scenario, TvSettings};
+/// // An invented scene: 3 spikes at fc = 30, 2/fc apart, exact data.
+/// let sample = Scenario::new(30, 3).with_separation(2.0).with_seed(5).generate()?;
+/// let sol = sliding::solve(&sample.data, Problem::Exact, &TvSettings::default())?;
+/// assert_eq!(sol.stop, sliding::SolverStop::Certified);
+/// # Ok::<(), finespike::Error>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
+pub enum SolverStop {
+    /// The optimality certificate holds (or zero is the optimum).
+    Certified,
+    /// The iteration or time budget was spent.
+    Budget,
+    /// The support would grow past `⌊2|K|/3⌋` spikes, more than the data can determine: the solve
+    /// is fitting the noise or a component that is not a sum of lines (see the module docs of the
+    /// solver).
+    SupportCap {
+        /// Spikes held when the solve stopped.
+        spikes: usize,
+        /// The cap `⌊2|K|/3⌋`.
+        cap: usize,
+    },
+    /// The constrained problem's search for the weight whose residual is `δ` ended without
+    /// matching it.
+    ResidualSearch,
+    /// Exact data: no interpolating certificate bounded by 1 was found down to the smallest weight.
+    Uncertified,
+    /// The same point was added and removed three times: the slide cannot settle it.
+    Cycling {
+        /// The point, in `[0, 1)`.
+        position: f64,
+    },
+    /// A violation of the certificate next to the support that repeated slides did not remove.
+    Stalled,
+}
+
+impl std::fmt::Display for SolverStop {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            SolverStop::Certified => f.write_str("certified optimal"),
+            SolverStop::Budget => f.write_str(
+                "the iteration or time budget was spent before the solution was certified: raise it",
+            ),
+            SolverStop::SupportCap { spikes, cap } => write!(
+                f,
+                "stopped at {spikes} spikes (the data can determine at most {cap}): the solve is \
+                 fitting noise or a component that is not a sum of lines — the noise level is far \
+                 too low for the record (give it), or the record has an offset, trend or slow \
+                 wander (fit it with a trend)"
+            ),
+            SolverStop::ResidualSearch => f.write_str(
+                "the search for the weight whose residual matches the noise ball did not converge",
+            ),
+            SolverStop::Uncertified => f.write_str(
+                "no certificate of optimality was found for the exact fit (numerical trouble, or \
+                 spikes too close for exact recovery)",
+            ),
+            SolverStop::Cycling { position } => write!(
+                f,
+                "numerical failure: the point {position} kept being added and removed"
+            ),
+            SolverStop::Stalled => f.write_str(
+                "numerical failure: a violation of the certificate next to the support persisted",
+            ),
+        }
+    }
 }
 
 /// The solver's internal frame and dual vector, kept so that the certificate can be re-checked on a
@@ -152,6 +237,7 @@ pub fn solve(data: &Measurements, problem: Problem, settings: &TvSettings) -> Re
         dual: model.dual_polynomial(&out.c),
         iterations: budget.iterations,
         precertificate_failed: out.precertificate_failed,
+        stop: out.stop,
         frame: Frame { model, c: out.c },
     })
 }

@@ -16,9 +16,11 @@
 //! **Support guard.** A spike carries 3 real unknowns (position, real and imaginary amplitude) and the
 //! data `2|K|` real values, so a support of more than `2|K|/3` spikes cannot be determined by the data:
 //! it only arises when the solve is fitting the noise (a noise level given far too low, a weight far
-//! too small), and each further iteration would cost more than the last. When an iteration would
-//! grow the support past that count, the solve stops with [`Status::NumericalFailure`] and the
-//! uncertified point reached so far, instead of running on for minutes.
+//! too small, or a record whose offset, trend or slow wander is being fitted as lines), and each
+//! further iteration would cost more than the last. When an iteration would grow the support past
+//! that count, the solve stops with [`Status::IterationLimit`] (a limit reached before convergence,
+//! not a numerical failure: the record or the noise level is the problem; [`SolverStop::SupportCap`]
+//! says what to do) and the uncertified point reached so far, instead of running on for minutes.
 //!
 //! **Exact data**: continuation `λ_{i+1} = λ_i/10` from `λ_0 = 0.1‖F*y‖∞`, warm started; after each level
 //! the support is fitted by least squares on the exact model (zero residual) and checked with the
@@ -40,6 +42,7 @@
 
 use super::certificate::{projected_dual, vanishing_derivative};
 use super::lasso::lasso;
+use super::SolverStop;
 use crate::estimator::Status;
 use crate::kernels::band::Model;
 use crate::kernels::lstsq::on_band as least_squares;
@@ -103,6 +106,8 @@ pub(crate) struct Outcome {
     pub lower_bound: f64,
     /// True when the exact problem's pre-certificate was computed and failed.
     pub precertificate_failed: bool,
+    /// Why the solve stopped.
+    pub stop: SolverStop,
 }
 
 /// What one BLASSO solve reports.
@@ -113,6 +118,8 @@ struct Blasso {
     /// that is larger (very small λ).
     rounding_limited: bool,
     halt: Option<Status>,
+    /// Why the loop returned.
+    stop: SolverStop,
     c: Vec<Complex64>,
     scan: Scan,
 }
@@ -188,6 +195,7 @@ fn blasso(
                 certified: true,
                 rounding_limited: eps > tolerance,
                 halt: None,
+                stop: SolverStop::Certified,
                 c,
                 scan: sc,
             };
@@ -197,6 +205,7 @@ fn blasso(
                 certified: false,
                 rounding_limited: eps > tolerance,
                 halt,
+                stop: SolverStop::Budget,
                 c,
                 scan: sc,
             };
@@ -215,6 +224,9 @@ fn blasso(
                         certified: false,
                         rounding_limited: eps > tolerance,
                         halt: Some(Status::NumericalFailure),
+                        stop: SolverStop::Cycling {
+                            position: crate::model::wrap(p.position),
+                        },
                         c,
                         scan: sc,
                     };
@@ -231,11 +243,16 @@ fn blasso(
                     .collect();
                 if point.len() + adding.len() > support_cap(model) {
                     // More spikes than the data can determine (module docs): stop instead of
-                    // running the LASSO and the slide on an ever larger support.
+                    // running the LASSO and the slide on an ever larger support. A limit reached before
+                    // convergence, not a numerical failure (module docs).
                     return Blasso {
                         certified: false,
                         rounding_limited: eps > tolerance,
-                        halt: Some(Status::NumericalFailure),
+                        halt: Some(Status::IterationLimit),
+                        stop: SolverStop::SupportCap {
+                            spikes: point.len(),
+                            cap: support_cap(model),
+                        },
                         c,
                         scan: sc,
                     };
@@ -268,6 +285,7 @@ fn blasso(
                         certified: false,
                         rounding_limited: eps > tolerance,
                         halt: Some(Status::NumericalFailure),
+                        stop: SolverStop::Stalled,
                         c,
                         scan: sc,
                     };
@@ -294,6 +312,7 @@ fn zero_outcome(model: &Model, c: Vec<Complex64>, objective: f64) -> Outcome {
         objective,
         lower_bound: objective,
         precertificate_failed: false,
+        stop: SolverStop::Certified,
     }
 }
 
@@ -326,6 +345,7 @@ pub(crate) fn solve_penalised(
     Outcome {
         point,
         status: status_of(&res),
+        stop: res.stop,
         c: res.c,
         scan: res.scan,
         lambda,
@@ -376,6 +396,7 @@ pub(crate) fn solve_exact(model: &Model, tolerance: f64, budget: &mut Budget) ->
                 status: Status::Solved,
                 lambda: 0.0,
                 precertificate_failed: false,
+                stop: SolverStop::Certified,
             };
         }
         let next = lambda / 10.0;
@@ -426,6 +447,10 @@ fn uncertified_exact(
     fit: Option<Point>,
 ) -> Outcome {
     let lower = lower_bound_exact(model, &res.c, res.scan.max_modulus);
+    let stop = match res.halt {
+        Some(_) => res.stop,
+        None => SolverStop::Uncertified,
+    };
     let status_for = |objective: f64, feasible: bool| match res.halt {
         Some(h) => h,
         None if feasible && objective - lower <= 1e-6 * objective.max(f64::MIN_POSITIVE) => {
@@ -451,6 +476,7 @@ fn uncertified_exact(
                 objective,
                 lower_bound: lower,
                 precertificate_failed: true,
+                stop,
             }
         }
         None => {
@@ -464,6 +490,7 @@ fn uncertified_exact(
                 objective,
                 lower_bound: lower,
                 precertificate_failed: false,
+                stop,
             }
         }
     }
@@ -588,6 +615,7 @@ pub(crate) fn solve_constrained(
             let mut out = finish_constrained(model, point, res, lam, delta, rn);
             if out.status == Status::Solved {
                 out.status = Status::IterationLimit;
+                out.stop = SolverStop::ResidualSearch;
             }
             out
         }
@@ -615,14 +643,15 @@ fn finish_constrained(
     let cn: f64 = res.c.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
     let lower = s * (inner - delta * cn);
     let matched = (rn - delta).abs() <= RESIDUAL_MATCH * delta;
-    let status = match status_of(&res) {
-        Status::Solved if !matched => Status::IterationLimit,
-        other => other,
+    let (status, stop) = match status_of(&res) {
+        Status::Solved if !matched => (Status::IterationLimit, SolverStop::ResidualSearch),
+        other => (other, res.stop),
     };
     Outcome {
         objective: point.l1(),
         point,
         status,
+        stop,
         c: res.c,
         scan: res.scan,
         lambda,
