@@ -86,6 +86,16 @@ pub enum Status {
     /// assert!(!finespike::Status::IterationLimit.is_usable());
     /// ```
     IterationLimit,
+    /// Stopped before reaching its target for a reason the method documents (a greedy fit whose next
+    /// spike no longer lowers the residual; a convex solve whose support outgrew what the data can
+    /// determine): not converged, and not a numerical failure. The estimate's warnings say why and
+    /// what to do.
+    ///
+    /// ```
+    /// assert!(!finespike::Status::TargetNotReached.is_usable());
+    /// assert_eq!(finespike::Status::TargetNotReached.to_string(), "target not reached");
+    /// ```
+    TargetNotReached,
     /// Stopped at the time limit before converging.
     ///
     /// ```
@@ -120,6 +130,7 @@ impl fmt::Display for Status {
             Status::Solved => "solved",
             Status::ReducedAccuracy => "reduced accuracy",
             Status::IterationLimit => "iteration limit",
+            Status::TargetNotReached => "target not reached",
             Status::TimeLimit => "time limit",
             Status::NumericalFailure => "numerical failure",
             Status::Infeasible => "infeasible",
@@ -198,6 +209,11 @@ pub enum Warning {
     },
     /// No spike was found.
     NoSpikes,
+    /// Why a method stopped short of its target, and what to do, in the method's own words.
+    Stopped {
+        /// The method's documented stop reason.
+        reason: String,
+    },
     /// The residual is larger than the noise level explains: a line may be missing, or `σ` is too low.
     ResidualAboveNoise {
         /// `‖y − Fμ̂‖² / (σ² (|K| − 1.5 s))`, about 1 for a correct model.
@@ -293,6 +309,7 @@ impl fmt::Display for Warning {
                  converged solution"
             ),
             Warning::NoSpikes => f.write_str("no spike was found"),
+            Warning::Stopped { reason } => write!(f, "the method stopped: {reason}"),
             Warning::ResidualAboveNoise { ratio } => write!(
                 f,
                 "the residual is {ratio:.2}× what the noise level explains: a line may be missing or \

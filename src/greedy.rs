@@ -22,7 +22,8 @@
 //! | stop | status |
 //! |---|---|
 //! | residual target met (after the polish), count reached, exact fit, zero data | [`Status::Solved`] |
-//! | [`GreedyStop::IterationLimit`], [`GreedyStop::SpikeLimit`], [`GreedyStop::NoProgress`] | [`Status::IterationLimit`] |
+//! | [`GreedyStop::IterationLimit`] | [`Status::IterationLimit`] |
+//! | [`GreedyStop::SpikeLimit`], [`GreedyStop::NoProgress`] | [`Status::TargetNotReached`] |
 //! | exact data, [`GreedyStop::NoProgress`] with the final fit within `1e-6‖y‖` | [`Status::ReducedAccuracy`] |
 //! | [`GreedyStop::NonFinite`] (a residual or amplitude that is NaN or infinite) | [`Status::NumericalFailure`] |
 //!
@@ -31,8 +32,8 @@
 //! noise, slow wander), or because the record carries an offset or trend that a sum of lines
 //! separated by more than the merge distance cannot model (the best new spike then slides into the
 //! component at zero frequency). [`GreedyStop::NoProgress`] says which, and its text tells the user
-//! what to do. [`Status::IterationLimit`] is the existing status nearest to "stopped before the
-//! target": not usable, not a failure.
+//! what to do (it is also in the estimate's warnings, as [`crate::Warning::Stopped`]).
+//! [`Status::TargetNotReached`] is not usable and not a failure.
 //!
 //! This is ADCG (Boyd, Schiebinger & Recht 2017, SIAM J. Optim. 27(2), Alg. 2) without the norm
 //! constraint — a conditional-gradient selection with a nonconvex local improvement, as also in
@@ -505,9 +506,14 @@ impl Greedy {
             {
                 Status::ReducedAccuracy
             }
-            _ => Status::IterationLimit,
+            GreedyStop::IterationLimit { .. } => Status::IterationLimit,
+            _ => Status::TargetNotReached,
         };
+        let stopped = (!stop.reached_target()).then(|| crate::Warning::Stopped {
+            reason: stop.to_string(),
+        });
         let mut diagnostics = Diagnostics::builder(data, &spikes)
+            .warnings(stopped)
             .status(status)
             .iterations(iterations)
             .noise(sigma, estimated);

@@ -122,7 +122,7 @@ fn position_std(
     let mut cols: Vec<Vec<Complex64>> = Vec::new();
     let mut freq_col: Vec<Option<usize>> = Vec::new();
     let amax = lines.iter().map(|l| l.1.norm()).fold(0.0, f64::max);
-    if !(amax > 0.0) || lines.is_empty() {
+    if amax.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) || lines.is_empty() {
         return Ok(vec![None; lines.len()]);
     }
     let p_est = 3.0 * lines.len() as f64;
@@ -173,7 +173,9 @@ fn position_std(
                 .sum::<f64>()
     });
     let d: Vec<f64> = (0..p).map(|i| fisher[(i, i)].sqrt()).collect();
-    if d.iter().any(|x| !(*x > 0.0)) {
+    if d.iter()
+        .any(|x| x.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater))
+    {
         return Ok(vec![None; lines.len()]);
     }
     let scaled = Mat::<f64>::from_fn(p, p, |i, j| fisher[(i, j)] / (d[i] * d[j]));

@@ -155,7 +155,7 @@ impl TrendBasis {
                 }
             }
             let norm = v.iter().map(|x| x * x).sum::<f64>().sqrt();
-            if !(norm > 1e-10 * (m as f64).sqrt()) {
+            if norm.partial_cmp(&(1e-10 * (m as f64).sqrt())) != Some(std::cmp::Ordering::Greater) {
                 return Err(Error::InvalidSetting {
                     name: "trend degree",
                     value: degree.to_string(),
@@ -195,8 +195,8 @@ impl TrendBasis {
         let mut c = vec![Complex64::new(0.0, 0.0); cols];
         for d in (0..cols).rev() {
             let mut s = qt[d];
-            for e in d + 1..cols {
-                s -= c[e] * self.r[d * cols + e];
+            for (e, ce) in c.iter().enumerate().skip(d + 1) {
+                s -= ce * self.r[d * cols + e];
             }
             c[d] = s / self.r[d * cols + d];
         }

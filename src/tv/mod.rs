@@ -137,6 +137,9 @@ pub(crate) struct ConvexSolution {
     objective: f64,
     /// Relative duality gap `(primal − dual)/|primal|`.
     gap: f64,
+    /// The backend's own account of a stop short of certified optimality (`None` when certified or
+    /// when the backend has none).
+    stop_reason: Option<String>,
     /// Which solver ran ([`Diagnostics::solver`]).
     solver: &'static str,
     /// For exact data: every interpolating certificate exceeds 1 (the support is not certified).
@@ -267,6 +270,7 @@ fn zero_solution(
         iterations: 0,
         objective,
         gap: 0.0,
+        stop_reason: None,
         solver: ZERO_OPTIMUM,
         precertificate_failed: false,
         certifier: Certifier::Peaks(peaks),
@@ -317,6 +321,11 @@ fn finish(
         && data.residual_norm(&spikes) > EXACT_FIT * data.norm()
     {
         status = Status::ReducedAccuracy;
+    }
+    if let Some(reason) = &sol.stop_reason {
+        warnings.push(Warning::Stopped {
+            reason: reason.clone(),
+        });
     }
     if !status.is_usable() || (status != Status::Solved && !violated) {
         warnings.push(Warning::NotConverged { status });

@@ -82,6 +82,7 @@ pub(crate) fn solve_convex(
         iterations: sol.iterations,
         objective: 0.5 * (sol.primal_objective + sol.dual_objective),
         gap: relative_gap(sol.primal_objective, sol.dual_objective).abs(),
+        stop_reason: None,
         solver: INTERIOR_POINT,
         precertificate_failed: false,
         certifier: Certifier::Peaks(peaks),

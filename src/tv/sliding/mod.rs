@@ -259,6 +259,7 @@ pub(crate) fn solve_convex(
         iterations: sol.iterations,
         objective: sol.objective,
         gap: relative_gap(sol.objective, sol.lower_bound),
+        stop_reason: (sol.stop != SolverStop::Certified).then(|| sol.stop.to_string()),
         solver: SLIDING_FRANK_WOLFE,
         precertificate_failed: sol.precertificate_failed,
         certifier: Certifier::Sliding(sol.frame),

@@ -18,7 +18,7 @@
 //! it only arises when the solve is fitting the noise (a noise level given far too low, a weight far
 //! too small, or a record whose offset, trend or slow wander is being fitted as lines), and each
 //! further iteration would cost more than the last. When an iteration would grow the support past
-//! that count, the solve stops with [`Status::IterationLimit`] (a limit reached before convergence,
+//! that count, the solve stops with [`Status::TargetNotReached`] (a limit reached before convergence,
 //! not a numerical failure: the record or the noise level is the problem; [`SolverStop::SupportCap`]
 //! says what to do) and the uncertified point reached so far, instead of running on for minutes.
 //!
@@ -248,7 +248,7 @@ fn blasso(
                     return Blasso {
                         certified: false,
                         rounding_limited: eps > tolerance,
-                        halt: Some(Status::IterationLimit),
+                        halt: Some(Status::TargetNotReached),
                         stop: SolverStop::SupportCap {
                             spikes: point.len(),
                             cap: support_cap(model),
