@@ -100,9 +100,10 @@ const WHITENESS_MIN_RATIO: f64 = 2.0;
 /// next-neighbouring tapered DFT values (module docs).
 const HANN_VARIANCE_FACTOR: f64 = 1.0 + 8.0 / 9.0 + 1.0 / 18.0;
 
-/// Bins per block of the running-median noise floor for a band of `n` bins: `n/16`, between 8 and 32.
+/// Bins per block of the running-median noise floor for a band of `n` bins: `n/64`, between 8 and 32
+/// (narrow enough to follow a red-noise peak of a few per cent of the band at `N = 512`).
 pub(crate) fn floor_block(n: usize) -> usize {
-    (n / 16).clamp(8, 32)
+    (n / 64).clamp(8, 32)
 }
 
 /// The noise spectrum of a record (module docs).
