@@ -387,8 +387,9 @@ mod tests {
         }
     }
 
-    /// White noise alone: the level is the sample power (`‖n‖²/|K|`, no line removed, or a chance one
-    /// at most), and the floor is flat by the whiteness rule.
+    /// White noise alone: the level is the sample power (`‖n‖²/|K|`; a few noise ordinates may be
+    /// removed as lines by chance where the floor, the lowest of three block medians, reads low, each
+    /// costing one ordinate's power out of 1024), and the floor is flat by the whiteness rule.
     #[test]
     fn white_noise_is_flat_and_its_level_is_its_power() {
         for (seed, real) in [(1, false), (2, true), (3, false), (4, true)] {
@@ -398,7 +399,7 @@ mod tests {
             // σ̂²/σ² ~ χ²/dof with relative spread √(1/1024) (complex) or √(2/1024) (real): ≈ 4.4 % at
             // most, so 15 % is more than three times that.
             assert!((s.level / 0.3 - 1.0).abs() < 0.15, "{s:?}");
-            assert!(s.lines_removed <= 1, "{s:?}");
+            assert!(s.lines_removed <= 5, "{s:?}");
             assert!(!s.coloured(), "{s:?}");
         }
     }
