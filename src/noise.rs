@@ -126,8 +126,8 @@
 
 use crate::error::{Error, Result};
 use crate::kernels::hankel_svd::{HankelAnalysis, LagSums, DENSE_SVD_ENTRIES};
-use crate::kernels::spectrum::noise_spectrum;
 use crate::kernels::rank::{looks_exact, numerical_rank, DEFAULT_RANK_TOLERANCE};
+use crate::kernels::spectrum::noise_spectrum;
 use crate::model::{Measurements, Spikes};
 use faer::c64;
 use serde::Serialize;
@@ -260,7 +260,12 @@ const MAX_GAPPED_SAMPLES: usize = 16_384;
 /// # Ok::<(), finespike::Error>(())
 /// ```
 pub fn estimate_sigma(data: &Measurements) -> Result<SigmaEstimate> {
-    estimate_with(data, None, "fit a model and use noise::residual_sigma instead").map(|e| e.0)
+    estimate_with(
+        data,
+        None,
+        "fit a model and use noise::residual_sigma instead",
+    )
+    .map(|e| e.0)
 }
 
 /// [`estimate_sigma`], reusing `shared` when it is the Hankel analysis of the whole (contiguous)

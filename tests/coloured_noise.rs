@@ -1,7 +1,7 @@
 //! The default noise level on records whose noise is not white, and on records with gaps.
 //!
-//! Every record here is an invented scenario (seeded): real-valued records `x_n = Σ_j A_j cos(2π f_j n
-//! + φ_j) + e_n` passed as complex samples with zero imaginary part, with AR(1) red noise
+//! Every record here is an invented scenario (seeded): real-valued records
+//! `x_n = Σ_j A_j cos(2π f_j n + φ_j) + e_n` passed as complex samples with zero imaginary part, with AR(1) red noise
 //! `e_n = ρ e_{n−1} + w_n`, `w_n ~ N(0, σ_w²)`, started in its stationary law. Check values come from
 //! theory, never from the code's output:
 //! - the AR(1) variance `σ_w² / (1 − ρ²)` (Brockwell & Davis 1991, *Time Series: Theory and Methods*,
@@ -316,7 +316,10 @@ fn measure_sdp_time_before_and_after() {
         panic!("red noise not flagged: {est:?}")
     };
     for (what, noise) in [
-        ("before (Hankel white level)", NoiseLevel::Known(white_sigma)),
+        (
+            "before (Hankel white level)",
+            NoiseLevel::Known(white_sigma),
+        ),
         ("after (default estimate)", NoiseLevel::Estimate),
     ] {
         let t = Instant::now();

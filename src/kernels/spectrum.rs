@@ -378,7 +378,9 @@ mod tests {
         let mut rng = StdRng::seed_from_u64(seed);
         if real {
             let d = Normal::new(0.0, sigma).unwrap();
-            (0..n).map(|_| Complex64::new(d.sample(&mut rng), 0.0)).collect()
+            (0..n)
+                .map(|_| Complex64::new(d.sample(&mut rng), 0.0))
+                .collect()
         } else {
             let d = Normal::new(0.0, sigma / 2f64.sqrt()).unwrap();
             (0..n)
