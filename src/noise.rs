@@ -132,8 +132,9 @@ use crate::model::{Measurements, Spikes};
 use faer::c64;
 use serde::Serialize;
 
-/// Shortest contiguous run of measured coefficients accepted by [`estimate_sigma`]: with `R = 6`,
-/// `L = 3`, `P = 4` and one spike there are about `(L − 1)(P − 1) = 6` complex noise degrees of freedom.
+/// Shortest contiguous record accepted by [`estimate_sigma`]: with `R = 6`, `L = 3`, `P = 4` and one
+/// spike there are about `(L − 1)(P − 1) = 6` complex noise degrees of freedom. A record with gaps needs
+/// a Hankel matrix of at least `3 × 3` fully measured entries instead (module docs, "Gaps").
 pub const MIN_RUN: usize = 6;
 
 /// Largest Hankel window `L` used by [`estimate_sigma`] (records longer than `2·MAX_WINDOW` use a
