@@ -16,6 +16,8 @@
 //!   estimate and shared by the model order and the noise-level estimate; streamed for long records.
 //! - [`rank`]: the numerical-rank rule and the exact-data test on singular values.
 //! - [`budget`]: the memory and work limits every kernel checks before allocating.
+//! - [`spectrum`]: the noise spectrum of a record on its measured indices (tapered periodogram, robust
+//!   floor, whole-band noise level with lines set aside, whiteness figure).
 
 /// Relative residual `‖y − Fμ‖ ≤ EXACT_STOP·‖y‖` at which a fit to exact data counts as exact and the
 /// greedy methods stop (`grid`, `greedy`): rounding of a well-conditioned fit is far below it.
@@ -39,3 +41,4 @@ pub(crate) mod peaks;
 pub(crate) mod rank;
 pub(crate) mod refine;
 pub(crate) mod slide;
+pub(crate) mod spectrum;
