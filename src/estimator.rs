@@ -184,12 +184,14 @@ pub enum Warning {
         /// Their phase difference in degrees.
         phase_deg: f64,
     },
-    /// The noise is not white: its spectral level varies across the band (e.g. red noise rising
-    /// towards low frequencies).
+    /// The residual is not white: its spectral floor varies across the band (e.g. red noise rising
+    /// towards low frequencies), by the whiteness rule of the noise-level estimate (`noise` module).
     NoiseNotWhite {
-        /// Ratio of the loudest to the quietest part of the smoothed noise spectrum.
+        /// Level of the loudest eighth of the band over the quietest.
         ratio: f64,
-        /// Where the noise is loudest, in the record's unit.
+        /// The ratio above which the floor is called not flat at this record length.
+        threshold: f64,
+        /// Where the residual is loudest, in the record's unit (signed frequency, Hz with a rate).
         loudest_at: f64,
     },
     /// The dual polynomial exceeds 1 somewhere: the optimality certificate fails.
@@ -287,11 +289,16 @@ impl fmt::Display for Warning {
                  physical lines",
                 positions.0, positions.1, amplitudes.0, amplitudes.1
             ),
-            Warning::NoiseNotWhite { ratio, loudest_at } => write!(
+            Warning::NoiseNotWhite {
+                ratio,
+                threshold,
+                loudest_at,
+            } => write!(
                 f,
-                "the noise is not white: its level varies by a factor {ratio:.1} across the band, \
-                 loudest near {loudest_at:.4}; lines there are less certain than the bounds say, \
-                 and the noise level used is the band's average"
+                "the noise is not white: the residual's level varies by a factor {ratio:.1} across \
+                 the band (white noise stays below {threshold:.1}), loudest near {loudest_at:.4}; \
+                 lines there are less certain than their bounds say, small lines there may be \
+                 noise, and the noise level is the band's average"
             ),
             Warning::CertificateViolated { max_modulus } => write!(
                 f,
@@ -555,6 +562,9 @@ impl Diagnostics {
         } else if ratio < 1.0 - band {
             self.warnings.push(Warning::ResidualBelowNoise { ratio });
         }
+        if let Some(w) = residual_colour(data, spikes) {
+            self.warnings.push(w);
+        }
         if spikes.is_empty() {
             return;
         }
@@ -603,6 +613,22 @@ pub struct Line {
     /// Plug-in Cramér–Rao standard deviation of the position, in cycles per sample (or fractions of
     /// the domain), when a noise level is known.
     pub crb_std_position: Option<f64>,
+}
+
+/// [`Warning::NoiseNotWhite`] when the residual's spectral floor is not flat (the whiteness rule of
+/// the noise-level estimate, applied to `y − Fμ̂`); `None` for short records and bands beyond 2^22.
+fn residual_colour(data: &Measurements, spikes: &Spikes) -> Option<Warning> {
+    if data.band_len() > 1 << 22 {
+        return None;
+    }
+    let r = data.residual(spikes);
+    let spec =
+        crate::kernels::spectrum::noise_spectrum(data.kmin(), data.band_len(), data.indices(), &r)?;
+    spec.coloured().then(|| Warning::NoiseNotWhite {
+        ratio: spec.ratio,
+        threshold: spec.threshold,
+        loudest_at: data.physical(spec.loudest_position),
+    })
 }
 
 /// How a model order was obtained.

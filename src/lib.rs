@@ -74,14 +74,14 @@ pub use estimator::{
 };
 pub use eval::metrics::{MatchSettings, Score};
 pub use eval::scenario::{AmplitudeKind, Sample, Scenario};
-pub use greedy::{Greedy, GreedySettings};
+pub use greedy::{Greedy, GreedyFit, GreedySettings, GreedyStop};
 pub use grid::{GridL1, GridSettings};
 pub use kernels::refine::RefineSettings;
 pub use model::{
     wrap_distance, Domain, Measurements, Scale, Spike, Spikes, Trend, TrendFit,
     CLASSICAL_SEPARATION_FC, PROVEN_SEPARATION_FC,
 };
-pub use noise::{estimate_sigma, residual_sigma, SigmaEstimate, SigmaMethod};
+pub use noise::{estimate_sigma, residual_sigma, NoiseColour, SigmaEstimate, SigmaMethod};
 pub use postprocess::PostProcess;
 pub use registry::{estimator_by_name, METHODS};
 pub use subspace::{

@@ -148,3 +148,40 @@ fn sdp_agrees_with_the_outside_fits_given_their_noise_level() {
         );
     }
 }
+
+/// With the noise level estimated (the default), the red-noise records are flagged as not white,
+/// every reference line is still found, and the noise level covers the red noise: `sdp` runs in
+/// about the time it takes with the level given (seconds, not minutes) — the figures are printed;
+/// the test checks the lines and the flag.
+#[test]
+fn sdp_with_the_default_noise_level_flags_red_noise() {
+    for (name, cells, amp_tol, red) in [
+        ("visible", 0.1, 0.15, true),
+        ("co2", 0.1, 0.1, true),
+        ("sunspots", 0.25, 0.2, true),
+        ("quad4096", 0.1, 0.1, false),
+        ("close_pair", 0.1, 0.1, false),
+    ] {
+        let (data, reference) = load(name);
+        let method = configure("sdp", &MethodOptions::default()).unwrap();
+        let e = method.estimator.estimate(&data).unwrap();
+        let extra = compare(name, &e, &reference, cells, amp_tol);
+        let flagged = e
+            .diagnostics
+            .warnings
+            .iter()
+            .any(|w| matches!(w, finespike::Warning::NoiseNotWhite { .. }));
+        eprintln!(
+            "{name}: σ̂ {:?} (outside fit {}), {} lines, {extra} extra, {:.2} s, {}, not white: {flagged}",
+            e.diagnostics.sigma,
+            reference["residual_std"],
+            e.diagnostics.lines.len(),
+            e.diagnostics.solve_seconds,
+            e.status
+        );
+        if std::env::var("SHOW").is_ok() {
+            eprintln!("  {:?}", e.diagnostics.warnings);
+        }
+        assert_eq!(flagged, red, "{name}: {:?}", e.diagnostics.warnings);
+    }
+}
