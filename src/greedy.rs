@@ -196,7 +196,8 @@ impl Greedy {
         }
     }
 
-    /// Stop at `count` spikes (at least 1), or earlier if the residual reaches the noise level.
+    /// Stop at `count` spikes (at least 1; for a real-valued record, `count` lines), or earlier if the
+    /// residual reaches the noise level.
     ///
     /// # Errors
     /// [`Error::InvalidSetting`] for 0.
@@ -400,7 +401,10 @@ impl Greedy {
             if !rn.is_finite() {
                 break GreedyStop::NonFinite;
             }
-            let counted = self.count.is_some_and(|c| point.len() >= c);
+            // A count of lines: a real record's lines are mirror pairs, two spikes each.
+            let counted = self
+                .count
+                .is_some_and(|c| point.len() >= if data.is_real() { 2 * c } else { c });
             if model.zero_data {
                 break GreedyStop::ZeroData;
             }
@@ -471,7 +475,12 @@ impl Greedy {
         for t in &mut point.tau {
             *t = wrap(*t);
         }
-        let spikes = model.spikes(&point.tau, &point.amp)?;
+        let mut spikes = model.spikes(&point.tau, &point.amp)?;
+        if data.is_real() && !spikes.is_empty() {
+            // A real record's lines are mirror pairs: least squares on the mirror-symmetric
+            // support (the polish keeps the symmetry).
+            spikes = crate::kernels::lstsq::fit(data, &spikes.positions())?;
+        }
         let spikes = refine(data, &spikes, settings.refine)?.spikes;
         // The final, polished fit against the same target, in data units.
         let final_rn = data.residual_norm(&spikes);
