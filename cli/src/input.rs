@@ -43,11 +43,11 @@ pub struct RecordArgs {
     /// Sample rate R of a time record, in samples per second: frequencies are then reported in Hz
     /// (in [0, R/2] for a real-valued record, signed in (-R/2, R/2] for a complex one) and the
     /// resolution 1/N becomes R/N Hz. Refused with Fourier coefficients (they take --length).
-    #[arg(long, value_name = "R")]
+    #[arg(long, value_name = "R", allow_hyphen_values = true)]
     pub rate: Option<f64>,
     /// Length L of the periodic domain of Fourier coefficients: positions are then also reported
     /// in the domain's unit (τ·L). Refused with time samples (they take --rate).
-    #[arg(long, value_name = "L")]
+    #[arg(long, value_name = "L", allow_hyphen_values = true)]
     pub length: Option<f64>,
     /// Offset or trend fitted jointly with the lines: none, mean, linear or poly:D (D = 0..8).
     /// Default: mean for a real-valued record (`n,value`), none otherwise — an offset is almost
