@@ -52,6 +52,8 @@ pub struct BoundArgs {
 
 /// The measured set: indices and band, and a description for the report.
 struct Band {
+    /// A time record (else a Fourier band).
+    time: bool,
     indices: Vec<i64>,
     kmin: i64,
     kmax: i64,
@@ -77,6 +79,7 @@ fn band(a: &BoundArgs, file_fc: Option<f64>, rec: &input::TruthRecord) -> Result
     if let Some(path) = &a.data {
         let data: Measurements = input::load_samples(path, a.fc, a.domain)?;
         return Ok(Band {
+            time: data.domain() == finespike::Domain::Time,
             indices: data.indices().to_vec(),
             kmin: data.kmin(),
             kmax: data.kmax(),
@@ -106,6 +109,7 @@ fn band(a: &BoundArgs, file_fc: Option<f64>, rec: &input::TruthRecord) -> Result
             }
             let f = fc as i64;
             Ok(Band {
+                time: false,
                 indices: (-f..=f).collect(),
                 kmin: -f,
                 kmax: f,
@@ -141,6 +145,7 @@ fn band(a: &BoundArgs, file_fc: Option<f64>, rec: &input::TruthRecord) -> Result
                 .and_then(|l| first.checked_add(l))
                 .ok_or_else(|| Failure::Usage(format!("--samples {n}: too many samples")))?;
             Ok(Band {
+                time: true,
                 indices: (-last..=-first).collect(),
                 kmin: -last,
                 kmax: -first,
@@ -186,7 +191,7 @@ pub fn run(a: BoundArgs) -> Result<(), Failure> {
         }
     };
     let band = band(&a, file.fc, &rec)?;
-    if rate.is_some() && band.kmax > 0 {
+    if rate.is_some() && !band.time {
         return Err(Failure::Usage(
             "--rate applies to time records: this bound is for a Fourier band".into(),
         ));
