@@ -305,7 +305,11 @@ fn text(
             ];
             if let Some(r) = rate {
                 // Signed frequency in (−R/2, R/2].
-                let p = if s.position > 0.5 { s.position - 1.0 } else { s.position };
+                let p = if s.position > 0.5 {
+                    s.position - 1.0
+                } else {
+                    s.position
+                };
                 row.push(format!("{} Hz", show::sig(p * r, 7)));
                 row.push(format!("{} Hz", num(s.std_position * r)));
             }

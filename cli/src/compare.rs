@@ -482,7 +482,9 @@ fn file_without_truth(
                         "{m},{},{},{},{},{},{},\n",
                         e.status,
                         e.diagnostics.lines.len(),
-                        e.diagnostics.separation_cells.map_or_else(String::new, exact),
+                        e.diagnostics
+                            .separation_cells
+                            .map_or_else(String::new, exact),
                         e.diagnostics.separation_fc.map_or_else(String::new, exact),
                         exact(e.diagnostics.residual_norm),
                         exact(*s)

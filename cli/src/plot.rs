@@ -40,7 +40,12 @@ pub struct PlotArgs {
     method: MethodArgs,
     /// Show only FROM..TO of the axis, in its unit (e.g. `--range 0.2,0.45`, or `--range 100,200`
     /// in Hz with --rate).
-    #[arg(long, value_delimiter = ',', value_name = "FROM,TO", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_delimiter = ',',
+        value_name = "FROM,TO",
+        allow_hyphen_values = true
+    )]
     range: Option<Vec<f64>>,
     /// Width of the figure in pixels.
     #[arg(long, default_value_t = 1100)]
@@ -311,7 +316,11 @@ fn caption(
             .iter()
             .map(|l| (l.position, l.amplitude.norm()))
             .collect();
-        let shown_est = if data.is_real() { &est_lines } else { &est_stems };
+        let shown_est = if data.is_real() {
+            &est_lines
+        } else {
+            &est_stems
+        };
         let mut line = format!(
             "View {}..{} of {}..{}{}: {} of {} recovered lines shown",
             num(x0),
@@ -523,7 +532,11 @@ fn render(
                     PathElement::new(vec![(x, 0.0), (x, h)], TRUE.mix(0.55).stroke_width(6))
                 }))
                 .map_err(draw_err)?
-                .label(if real { "true lines |A|" } else { "true spikes |a|" })
+                .label(if real {
+                    "true lines |A|"
+                } else {
+                    "true spikes |a|"
+                })
                 .legend(|(x, y)| {
                     EmptyElement::at((x + 11, y)) + Circle::new((0, 0), 7, TRUE.stroke_width(2))
                 });
@@ -569,12 +582,12 @@ fn render(
             )))
             .map_err(draw_err)?;
         let bar_label = if len < resolution {
-            format!("resolution {} (wider than half the view)", show::resolution(data))
-        } else {
             format!(
-                "resolution {}",
+                "resolution {} (wider than half the view)",
                 show::resolution(data)
             )
+        } else {
+            format!("resolution {}", show::resolution(data))
         };
         chart
             .draw_series(std::iter::once(Text::new(

@@ -292,7 +292,11 @@ pub fn summary(
         finespike::Trend::Linear => "offset and linear trend fitted with the lines".to_string(),
         t => format!("polynomial trend ({t}) fitted with the lines"),
     };
-    row(&mut out, "record", format!("{}; {detrend}", show::band(data)));
+    row(
+        &mut out,
+        "record",
+        format!("{}; {detrend}", show::band(data)),
+    );
     let noise = match (d.sigma, uses_noise) {
         (_, false) => "not used by this method".to_string(),
         (None, true) if requested == NoiseLevel::Exact => {
@@ -461,18 +465,25 @@ mod tests {
     #[test]
     fn the_separation_verdict_is_the_librarys() {
         let line = |w: Vec<Warning>| {
-            summary(&estimate(Status::Solved, w), &band(), true, NoiseLevel::Estimate)
-                .lines()
-                .find(|l| l.contains("closest pair"))
-                .unwrap()
-                .to_string()
+            summary(
+                &estimate(Status::Solved, w),
+                &band(),
+                true,
+                NoiseLevel::Estimate,
+            )
+            .lines()
+            .find(|l| l.contains("closest pair"))
+            .unwrap()
+            .to_string()
         };
         let below = line(vec![Warning::BelowProvenSeparation {
             separation_fc: 1.1,
             separation_cells: 2.2,
         }]);
         assert!(
-            below.ends_with("1.26/fc; resolved, but below the proven exact-recovery threshold of TV)"),
+            below.ends_with(
+                "1.26/fc; resolved, but below the proven exact-recovery threshold of TV)"
+            ),
             "{below}"
         );
         // Both units, each named: 1.1/fc at fc = 8 is 1.1·17/8 = 2.34 cells of 1/N (N = 17).

@@ -99,19 +99,41 @@ pub struct SimulateArgs {
     #[arg(long, value_name = "R", requires = "real")]
     rate: Option<f64>,
     /// With --real: index n of the first sample.
-    #[arg(long, value_name = "N0", default_value_t = 0, requires = "real", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_name = "N0",
+        default_value_t = 0,
+        requires = "real",
+        allow_hyphen_values = true
+    )]
     first_index: i64,
     /// With --real: constant offset of the record.
-    #[arg(long, default_value_t = 0.0, requires = "real", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        default_value_t = 0.0,
+        requires = "real",
+        allow_hyphen_values = true
+    )]
     offset: f64,
     /// With --real: linear trend, added per sample from the first one.
-    #[arg(long, default_value_t = 0.0, requires = "real", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        default_value_t = 0.0,
+        requires = "real",
+        allow_hyphen_values = true
+    )]
     slope: f64,
     /// With --real: standard deviation of the noise's innovations w_n (0: exact data).
     #[arg(long, default_value_t = 0.0, requires = "real")]
     noise_std: f64,
     /// With --real: AR(1) coefficient ρ of the noise (0: white; 0.9: strongly red).
-    #[arg(long, value_name = "RHO", default_value_t = 0.0, requires = "real", allow_hyphen_values = true)]
+    #[arg(
+        long,
+        value_name = "RHO",
+        default_value_t = 0.0,
+        requires = "real",
+        allow_hyphen_values = true
+    )]
     red: f64,
     /// With --real: fraction of the samples removed, in runs (0 to 0.5).
     #[arg(long, default_value_t = 0.0, requires = "real")]

@@ -142,11 +142,8 @@ fn malformed_sample_files_name_file_line_found_and_expected() {
         "time",
     ]);
     assert_eq!(out.status.code(), Some(3));
-    assert!(
-        stderr(&out).contains(
-            "line 1: --domain time expects header 'n,re,im' or 'n,value', found 'k,re,im'"
-        )
-    );
+    assert!(stderr(&out)
+        .contains("line 1: --domain time expects header 'n,re,im' or 'n,value', found 'k,re,im'"));
 }
 
 #[test]
@@ -432,7 +429,15 @@ fn units_and_trends_are_checked_against_the_record() {
     );
     let out = run(&["plot", "-i", s(&fourier), "--rate", "10", "-o", "x.svg"]);
     assert_exit(&out, 2, "plot: rate with Fourier data");
-    let out = run(&["compare", "-i", s(&fourier), "--rate", "10", "--methods", "sdp"]);
+    let out = run(&[
+        "compare",
+        "-i",
+        s(&fourier),
+        "--rate",
+        "10",
+        "--methods",
+        "sdp",
+    ]);
     assert_exit(&out, 2, "compare: rate with Fourier data");
     let out = run(&["recover", "-i", s(&real), "--length", "2"]);
     assert_exit(&out, 2, "length with time samples");
@@ -440,7 +445,10 @@ fn units_and_trends_are_checked_against_the_record() {
     for bad in ["0", "-5", "inf", "nan"] {
         let out = run(&["recover", "-i", s(&real), "--rate", bad]);
         assert_exit(&out, 2, bad);
-        assert!(stderr(&out).contains("must be positive and finite"), "{bad}");
+        assert!(
+            stderr(&out).contains("must be positive and finite"),
+            "{bad}"
+        );
     }
     // Trends: the library's parser, any case; a degree above 8 or a polynomial taking more than
     // half of the samples is refused.
@@ -451,15 +459,28 @@ fn units_and_trends_are_checked_against_the_record() {
     assert_exit(&out, 2, "degree 9");
     let out = run(&["recover", "-i", s(&real), "--detrend", "Poly:3"]);
     assert_exit(&out, 2, "4 coefficients on 4 samples");
-    assert!(stderr(&out).contains("--detrend poly:3 on"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("--detrend poly:3 on"),
+        "{}",
+        stderr(&out)
+    );
     // The Fourier length is accepted and reported.
     let v: Value = serde_json::from_str(&ok(&run(&[
-        "recover", "-i", s(&fourier), "--sigma", "0", "--length", "4",
+        "recover",
+        "-i",
+        s(&fourier),
+        "--sigma",
+        "0",
+        "--length",
+        "4",
     ])))
     .unwrap();
     assert!((v["resolution"].as_f64().unwrap() - 4.0 / 17.0).abs() < 1e-15);
     for l in v["lines"].as_array().unwrap() {
-        let (p, x) = (l["position"].as_f64().unwrap(), l["location"].as_f64().unwrap());
+        let (p, x) = (
+            l["position"].as_f64().unwrap(),
+            l["location"].as_f64().unwrap(),
+        );
         assert!((x - 4.0 * p).abs() < 1e-12);
     }
     // Help texts state the default trend and why.

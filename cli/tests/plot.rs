@@ -118,7 +118,13 @@ fn plot_axis_is_in_the_records_unit() {
     let csv = write(&dir, "r.csv", &rec.csv());
     let svg_path = dir.join("r.svg");
     ok(&run(&[
-        "plot", "-i", s(&csv), "--rate", "1000", "-o", s(&svg_path),
+        "plot",
+        "-i",
+        s(&csv),
+        "--rate",
+        "1000",
+        "-o",
+        s(&svg_path),
     ]));
     let svg = std::fs::read_to_string(&svg_path).unwrap();
     check_svg(&svg);
@@ -132,12 +138,28 @@ fn plot_axis_is_in_the_records_unit() {
     }
     // A real record's axis is [0, R/2]: --range in Hz inside it, refused outside.
     ok(&run(&[
-        "plot", "-i", s(&csv), "--rate", "1000", "-o", s(&svg_path), "--range", "100,150",
+        "plot",
+        "-i",
+        s(&csv),
+        "--rate",
+        "1000",
+        "-o",
+        s(&svg_path),
+        "--range",
+        "100,150",
     ]));
     let svg = std::fs::read_to_string(&svg_path).unwrap();
     assert!(svg.contains("View 100..150 of 0..500 Hz"), "view caption");
     let out = run(&[
-        "plot", "-i", s(&csv), "--rate", "1000", "-o", s(&svg_path), "--range", "100,600",
+        "plot",
+        "-i",
+        s(&csv),
+        "--rate",
+        "1000",
+        "-o",
+        s(&svg_path),
+        "--range",
+        "100,600",
     ]);
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("0 <= FROM < TO <= 500 (Hz)"));

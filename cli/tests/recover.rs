@@ -66,7 +66,13 @@ fn recover_json_has_a_fixed_shape() {
             keys.sort_unstable();
             assert_eq!(
                 keys,
-                ["abs_amplitude", "amplitude", "crb_std", "phase_deg", "position"]
+                [
+                    "abs_amplitude",
+                    "amplitude",
+                    "crb_std",
+                    "phase_deg",
+                    "position"
+                ]
             );
             let a = l["amplitude"].as_array().unwrap();
             let (re, im) = (a[0].as_f64().unwrap(), a[1].as_f64().unwrap());
@@ -362,8 +368,8 @@ fn real_record_reports_each_cosine_once_in_hz() {
     // std 3.45e-6 cycles/sample = 1.73e-3 Hz at 500 Hz. Tolerances: about 6 of those std.
     let n = 200.0f64;
     let eta = 0.8f64.powi(2) / (2.0 * 0.01f64.powi(2));
-    let std_hz = (12.0 / ((2.0 * std::f64::consts::PI).powi(2) * eta * n * (n * n - 1.0))).sqrt()
-        * 500.0;
+    let std_hz =
+        (12.0 / ((2.0 * std::f64::consts::PI).powi(2) * eta * n * (n * n - 1.0))).sqrt() * 500.0;
     let lines = lines_of(&v);
     // Above one resolution cell (2.5 Hz): see `no_degenerate_zero_line_with_a_fitted_offset` for
     // what the library reports at 0 Hz today.
@@ -381,10 +387,15 @@ fn real_record_reports_each_cosine_once_in_hz() {
         .as_array()
         .unwrap()
         .iter()
-        .find(|l| l["abs_amplitude"].as_f64().unwrap() > 0.1 && l["frequency"].as_f64().unwrap() > 2.5)
+        .find(|l| {
+            l["abs_amplitude"].as_f64().unwrap() > 0.1 && l["frequency"].as_f64().unwrap() > 2.5
+        })
         .unwrap();
     let crb = l["crb_std"].as_f64().unwrap();
-    assert!(crb > std_hz / 3.0 && crb < 3.0 * std_hz, "crb_std {crb} Hz vs {std_hz}");
+    assert!(
+        crb > std_hz / 3.0 && crb < 3.0 * std_hz,
+        "crb_std {crb} Hz vs {std_hz}"
+    );
     assert!((l["position"].as_f64().unwrap() - 61.3 / 500.0).abs() < 6.0 * std_hz / 500.0);
     // Record, resolution 1/N = R/N = 2.5 Hz, and the default offset fit (mean) with its value.
     assert_eq!(v["record"]["first"], 1000);
@@ -405,7 +416,13 @@ fn real_record_reports_each_cosine_once_in_hz() {
     }
     // --detrend none leaves the offset to the lines: a line at 0 Hz carries it.
     let v: Value = serde_json::from_str(&ok(&run(&[
-        "recover", "-i", s(&p), "--rate", "500", "--detrend", "NONE",
+        "recover",
+        "-i",
+        s(&p),
+        "--rate",
+        "500",
+        "--detrend",
+        "NONE",
     ])))
     .unwrap();
     assert_eq!(v["record"]["detrend"], "none");
@@ -450,7 +467,16 @@ fn real_records_in_batches_and_as_csv() {
     // σ given and no trend: see the ignored tests below for the library's present trouble with an
     // offset fitted on records with gaps.
     let text = ok(&run(&[
-        "recover", "-i", s(&a), s(&b), "--rate", "1", "--detrend", "none", "--sigma", "0.01",
+        "recover",
+        "-i",
+        s(&a),
+        s(&b),
+        "--rate",
+        "1",
+        "--detrend",
+        "none",
+        "--sigma",
+        "0.01",
     ]));
     let rows: Vec<Value> = text
         .lines()
@@ -472,7 +498,16 @@ fn real_records_in_batches_and_as_csv() {
     }
     // CSV: one row per line, frequency in the record's unit beside the position.
     let csv = ok(&run(&[
-        "recover", "-i", s(&a), "--rate", "2", "--format", "csv", "--detrend", "none", "--sigma",
+        "recover",
+        "-i",
+        s(&a),
+        "--rate",
+        "2",
+        "--format",
+        "csv",
+        "--detrend",
+        "none",
+        "--sigma",
         "0.01",
     ]));
     let mut rows = csv.lines();
@@ -526,7 +561,11 @@ fn acceptance(extra: &[&str]) {
         let extra_lines: Vec<_> = lines
             .iter()
             .filter(|l| l.0 > 5.0 && l.1 >= 0.15)
-            .filter(|l| [123.4, 150.0, 371.1].iter().all(|f| (l.0 - f).abs() >= 0.25))
+            .filter(|l| {
+                [123.4, 150.0, 371.1]
+                    .iter()
+                    .all(|f| (l.0 - f).abs() >= 0.25)
+            })
             .collect();
         assert!(extra_lines.is_empty(), "seed {seed}: {extra_lines:?}");
         let err = stderr(&out);
@@ -576,8 +615,8 @@ fn no_degenerate_zero_line_with_a_fitted_offset() {
     };
     let dir = tmpdir("zero");
     let p = write(&dir, "cos.csv", &rec.csv());
-    let v: Value = serde_json::from_str(&ok(&run(&["recover", "-i", s(&p), "--rate", "500"])))
-        .unwrap();
+    let v: Value =
+        serde_json::from_str(&ok(&run(&["recover", "-i", s(&p), "--rate", "500"]))).unwrap();
     for l in lines_of(&v) {
         assert!(l.1 < 0.1 || l.0 > 2.5, "{l:?}");
     }

@@ -144,24 +144,41 @@ fn even_time_records_round_trip() {
     assert_eq!(got, bound.per_spike[0].std_position);
     // The truth file says it is a time record of N = 32 samples: `bound --truth` alone rebuilds it
     // (the same bound as with --domain time), and so do compare and plot with that truth.
-    let v: Value = serde_json::from_str(&ok(&run(&[
-        "bound", "-t", s(&truth), "--format", "json",
-    ])))
-    .unwrap();
-    assert_eq!((v["kmin"].as_i64(), v["kmax"].as_i64()), (Some(-31), Some(0)));
+    let v: Value =
+        serde_json::from_str(&ok(&run(&["bound", "-t", s(&truth), "--format", "json"]))).unwrap();
+    assert_eq!(
+        (v["kmin"].as_i64(), v["kmax"].as_i64()),
+        (Some(-31), Some(0))
+    );
     let alone = v["bound"]["per_spike"][0]["std_position"].as_f64().unwrap();
     assert_eq!(alone, bound.per_spike[0].std_position);
     let text = ok(&run(&["bound", "-t", s(&truth)]));
     assert!(text.contains("N = 32 time samples n = 0..31"), "{text}");
     let text = ok(&run(&[
-        "compare", "-i", s(&csv), "--truth", s(&truth), "--methods", "esprit",
+        "compare",
+        "-i",
+        s(&csv),
+        "--truth",
+        s(&truth),
+        "--methods",
+        "esprit",
     ]));
     assert!(text.contains("esprit") && text.contains("2/2"), "{text}");
     let svg = dir.join("even.svg");
     ok(&run(&[
-        "plot", "-i", s(&csv), "--truth", s(&truth), "-m", "esprit", "-o", s(&svg),
+        "plot",
+        "-i",
+        s(&csv),
+        "--truth",
+        s(&truth),
+        "-m",
+        "esprit",
+        "-o",
+        s(&svg),
     ]));
-    assert!(std::fs::read_to_string(&svg).unwrap().contains("true spikes"));
+    assert!(std::fs::read_to_string(&svg)
+        .unwrap()
+        .contains("true spikes"));
     // Asked for a Fourier band, a non-integer fc cannot make one: the message says what to give.
     let out = run(&["bound", "-t", s(&truth), "--domain", "fourier"]);
     assert_eq!(out.status.code(), Some(2));
@@ -291,7 +308,10 @@ fn invented_real_records_round_trip() {
     let t: Value = serde_json::from_str(&std::fs::read_to_string(&truth).unwrap()).unwrap();
     assert_eq!(t["real"], true);
     assert_eq!(t["domain"], "time");
-    assert_eq!((t["samples"].as_u64(), t["first_index"].as_i64()), (Some(256), Some(-40)));
+    assert_eq!(
+        (t["samples"].as_u64(), t["first_index"].as_i64()),
+        (Some(256), Some(-40))
+    );
     assert_eq!(t["rate"], 200.0);
     assert_eq!(t["fc"], 127.5);
     // Stationary std of AR(1) noise: 0.01/√(1 − 0.25).
@@ -311,7 +331,15 @@ fn invented_real_records_round_trip() {
     // σ given as the noise's stationary std (see the report on the default σ for red noise).
     let sigma = (0.01 / 0.75f64.sqrt()).to_string();
     let v: Value = serde_json::from_str(&ok(&run(&[
-        "recover", "-i", s(&csv), "--rate", "200", "--detrend", "linear", "--sigma", &sigma,
+        "recover",
+        "-i",
+        s(&csv),
+        "--rate",
+        "200",
+        "--detrend",
+        "linear",
+        "--sigma",
+        &sigma,
     ])))
     .unwrap();
     let lines = v["lines"].as_array().unwrap();
@@ -333,21 +361,59 @@ fn invented_real_records_round_trip() {
         "{text}"
     );
     let text = ok(&run(&[
-        "compare", "-i", s(&csv), "--truth", s(&truth), "--methods", "sdp", "--rate", "200",
-        "--detrend", "linear", "--sigma", &sigma,
+        "compare",
+        "-i",
+        s(&csv),
+        "--truth",
+        s(&truth),
+        "--methods",
+        "sdp",
+        "--rate",
+        "200",
+        "--detrend",
+        "linear",
+        "--sigma",
+        &sigma,
     ]));
     assert!(text.contains("4/4"), "{text}");
     // The help says scenes are invented; a real scene needs --samples and at least one --line.
     let help = ok(&run(&["simulate", "--help"]));
     assert!(help.contains("Every scene this command writes is invented"));
-    let out = run(&["simulate", "--real", "--samples", "64", "--out", "x", "--truth", "y"]);
+    let out = run(&[
+        "simulate",
+        "--real",
+        "--samples",
+        "64",
+        "--out",
+        "x",
+        "--truth",
+        "y",
+    ]);
     assert_eq!(out.status.code(), Some(2));
     let out = run(&[
-        "simulate", "--real", "--samples", "64", "--line", "0.7:1", "--out", "x", "--truth", "y",
+        "simulate",
+        "--real",
+        "--samples",
+        "64",
+        "--line",
+        "0.7:1",
+        "--out",
+        "x",
+        "--truth",
+        "y",
     ]);
     assert_eq!(out.status.code(), Some(2), "a frequency above R/2");
     let out = run(&[
-        "simulate", "--real", "--samples", "64", "--line", "0.2", "--out", "x", "--truth", "y",
+        "simulate",
+        "--real",
+        "--samples",
+        "64",
+        "--line",
+        "0.2",
+        "--out",
+        "x",
+        "--truth",
+        "y",
     ]);
     assert_eq!(out.status.code(), Some(2), "FREQ:AMP");
 }

@@ -479,7 +479,10 @@ mod tests {
         assert!(rows.real);
         assert_eq!(rows.indices, vec![1000, 1001, 1000]);
         let e = rows.into_measurements(None).unwrap_err();
-        assert!(e.to_string().contains("line 4: found n = 1000 again"), "{e}");
+        assert!(
+            e.to_string().contains("line 4: found n = 1000 again"),
+            "{e}"
+        );
         let rows = parse_samples("n,value\n1000,2.5\n1002,-1\n", "r.csv").unwrap();
         let m = rows.into_measurements(None).unwrap();
         assert!(m.is_real());
@@ -493,7 +496,10 @@ mod tests {
             "r.csv, line 3: found '12.5' in column n, expected an integer sample index"
         );
         let e = parse_samples("n,value\n0,1,2\n", "r.csv").unwrap_err();
-        assert!(e.to_string().contains("line 2: found 3 fields, expected 2"), "{e}");
+        assert!(
+            e.to_string().contains("line 2: found 3 fields, expected 2"),
+            "{e}"
+        );
         let e = parse_samples("n,value\n", "r.csv").unwrap_err();
         assert!(e.to_string().contains("row of two numbers"), "{e}");
         let e = parse_samples("n,val\n0,1\n", "r.csv").unwrap_err();

@@ -361,7 +361,11 @@ impl RealScene {
             return Err(bad("trend", self.slope, "offset and slope must be finite"));
         }
         if !(self.rho.abs() < 1.0) {
-            return Err(bad("rho", self.rho, "the AR(1) coefficient must satisfy |ρ| < 1"));
+            return Err(bad(
+                "rho",
+                self.rho,
+                "the AR(1) coefficient must satisfy |ρ| < 1",
+            ));
         }
         if !(self.innovation_std.is_finite() && self.innovation_std >= 0.0) {
             return Err(bad(
@@ -517,9 +521,7 @@ mod tests {
         assert_eq!(r.times.len(), 194);
         assert_eq!((r.times[0], *r.times.last().unwrap()), (1000, 1199));
         for (&t, &x) in r.times.iter().zip(&r.values) {
-            let want = 2.0
-                + 0.001 * (t - 1000) as f64
-                + (2.0 * PI * 0.1234 * t as f64 + 0.3).cos();
+            let want = 2.0 + 0.001 * (t - 1000) as f64 + (2.0 * PI * 0.1234 * t as f64 + 0.3).cos();
             assert!((x - want).abs() < 1e-9, "{t}: {x} vs {want}");
         }
         let m = r.measurements().unwrap();
@@ -537,7 +539,11 @@ mod tests {
         let m0 = x.iter().sum::<f64>() / x.len() as f64;
         let c0: f64 = x.iter().map(|v| (v - m0).powi(2)).sum();
         let c1: f64 = x.windows(2).map(|w| (w[0] - m0) * (w[1] - m0)).sum();
-        assert!((c1 / c0 - 0.9).abs() < 0.02, "lag-one correlation {}", c1 / c0);
+        assert!(
+            (c1 / c0 - 0.9).abs() < 0.02,
+            "lag-one correlation {}",
+            c1 / c0
+        );
         assert!((noisy.noise_std - 0.05 / 0.19f64.sqrt()).abs() < 1e-12);
         let s = (c0 / x.len() as f64).sqrt();
         assert!((s / noisy.noise_std - 1.0).abs() < 0.1, "std {s}");
