@@ -349,7 +349,7 @@ impl RealScene {
                     "must lie in [0, R/2] (R the sample rate)",
                 ));
             }
-            if !(c.amplitude.is_finite() && c.amplitude >= 0.0) || !c.phase.is_finite() {
+            if !(c.amplitude.is_finite() && c.amplitude >= 0.0 && c.phase.is_finite()) {
                 return Err(bad(
                     "amplitude",
                     c.amplitude,
@@ -360,7 +360,7 @@ impl RealScene {
         if !(self.offset.is_finite() && self.slope.is_finite()) {
             return Err(bad("trend", self.slope, "offset and slope must be finite"));
         }
-        if !(self.rho.abs() < 1.0) {
+        if self.rho.is_nan() || self.rho.abs() >= 1.0 {
             return Err(bad(
                 "rho",
                 self.rho,

@@ -149,10 +149,11 @@ pub fn assert_plain_numbers(text: &str) {
 }
 
 /// An invented real-valued record, drawn here independently of the library's scene generator (so
-/// that the tests' truth does not come from the code under test): `x_n = offset + slope·(n − first)
-/// + Σ A cos(2π f n / R + φ) + e_n`, `e_n` stationary AR(1) red noise with coefficient `rho` and
-/// innovation std `innovation`, about `missing` of the samples removed in runs of 1 to `max_run`
-/// (first and last kept). Seeded (SplitMix64 with Box–Muller normals).
+/// that the tests' truth does not come from the code under test):
+/// `x_n = offset + slope·(n − first) + Σ A cos(2π f n / R + φ) + e_n`, with `e_n` stationary AR(1)
+/// red noise of coefficient `rho` and innovation std `innovation`, and about `missing` of the
+/// samples removed in runs of 1 to `max_run` (first and last kept). Seeded (SplitMix64 with
+/// Box–Muller normals).
 pub struct RealRecord {
     pub first: i64,
     pub samples: usize,
