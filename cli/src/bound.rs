@@ -3,7 +3,7 @@
 use crate::show::{self, exact, num};
 use crate::{input, requested_noise, shown, DomainArg, Failure, ReportFormat};
 use clap::Args;
-use finespike::{crb, Crb, Measurements};
+use finespike::{crb, Crb, Measurements, PROVEN_SEPARATION_FC};
 use serde_json::json;
 use std::path::PathBuf;
 
@@ -12,9 +12,12 @@ use std::path::PathBuf;
 /// The bound is the smallest standard deviation any unbiased estimator can reach for each position (in 1/fc units and absolute), modulus and phase, in complex
 /// white Gaussian noise of level σ (Fisher information of the exact model, Stoica & Nehorai 1989).
 ///
-/// The measured set is the full band -fc..fc (Fourier), N time samples n = 0..N-1 (time), or the
-/// indices of a sample file (--data, which may have gaps). fc and σ come from the truth file unless
-/// given; amplitudes are referred to k = 0 (for time samples: to the first sample).
+/// The measured set is the full band -fc..fc (Fourier), N time samples (time; n = 0..N-1, or from
+/// the first index a truth file of `simulate` records), or the indices of a sample file (--data,
+/// which may have gaps). fc, σ, the domain, N and the sample rate come from the truth file unless
+/// given (a truth file of an even-length record, fc = (N-1)/2 fractional, is a time record);
+/// amplitudes are referred to k = 0 (for time samples: to n = 0). For a real-valued truth the bound
+/// is that of its complex model (the ±f pairs in complex white noise).
 #[derive(Args, Debug)]
 #[command(after_help = crate::EXIT_CODES)]
 pub struct BoundArgs {
@@ -34,9 +37,14 @@ pub struct BoundArgs {
     /// --data, fourier otherwise).
     #[arg(long, value_enum)]
     domain: Option<DomainArg>,
-    /// Number N of time samples n = 0..N-1 (any N >= 2; default 2fc+1 from --fc or the truth file).
+    /// Number N of time samples n = 0..N-1 (any N >= 2; default: the truth file's N, else 2fc+1
+    /// from --fc or the truth file's fc).
     #[arg(long, value_name = "N")]
     samples: Option<usize>,
+    /// Sample rate R of a time record (samples per second): positions and their bounds are also
+    /// given in Hz (default: the truth file's rate).
+    #[arg(long, value_name = "R")]
+    rate: Option<f64>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = ReportFormat::Text)]
     format: ReportFormat,
@@ -44,6 +52,8 @@ pub struct BoundArgs {
 
 /// The measured set: indices and band, and a description for the report.
 struct Band {
+    /// A time record (else a Fourier band).
+    time: bool,
     indices: Vec<i64>,
     kmin: i64,
     kmax: i64,
@@ -65,17 +75,20 @@ fn integer_fc(fc: Option<usize>, file_fc: Option<f64>) -> Result<usize, Failure>
     }
 }
 
-fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
+fn band(a: &BoundArgs, file_fc: Option<f64>, rec: &input::TruthRecord) -> Result<Band, Failure> {
     if let Some(path) = &a.data {
         let data: Measurements = input::load_samples(path, a.fc, a.domain)?;
         return Ok(Band {
+            time: data.domain() == finespike::Domain::Time,
             indices: data.indices().to_vec(),
             kmin: data.kmin(),
             kmax: data.kmax(),
             describe: format!("{} ({})", shown(path), show::band(&data)),
         });
     }
-    let implied = if a.samples.is_some() {
+    // A fractional fc = (N − 1)/2 only arises from a time record of even length N.
+    let half_integer = file_fc.is_some_and(|f| f.fract() == 0.5);
+    let implied = if a.samples.is_some() || rec.is_time() || (a.fc.is_none() && half_integer) {
         DomainArg::Time
     } else {
         DomainArg::Fourier
@@ -96,6 +109,7 @@ fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
             }
             let f = fc as i64;
             Ok(Band {
+                time: false,
                 indices: (-f..=f).collect(),
                 kmin: -f,
                 kmax: f,
@@ -106,7 +120,7 @@ fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
             })
         }
         DomainArg::Time => {
-            let n = match a.samples {
+            let n = match a.samples.or(rec.samples.filter(|_| a.fc.is_none())) {
                 Some(n) => n,
                 None => match (a.fc, file_fc) {
                     (Some(f), _) => 2 * f + 1,
@@ -125,13 +139,19 @@ fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
                     "--samples {n}: at least 2 time samples are needed"
                 )));
             }
-            let last = n as i64 - 1;
+            let first = rec.first_index.unwrap_or(0);
+            let last = i64::try_from(n - 1)
+                .ok()
+                .and_then(|l| first.checked_add(l))
+                .ok_or_else(|| Failure::Usage(format!("--samples {n}: too many samples")))?;
             Ok(Band {
-                indices: (-last..=0).collect(),
+                time: true,
+                indices: (-last..=-first).collect(),
                 kmin: -last,
-                kmax: 0,
+                kmax: -first,
                 describe: format!(
-                    "N = {n} time samples n = 0..{last} (Rayleigh units with fc = (N-1)/2)"
+                    "N = {n} time samples n = {first}..{last} (resolution 1/N; Rayleigh units 1/fc \
+                     with fc = (N-1)/2)"
                 ),
             })
         }
@@ -139,7 +159,16 @@ fn band(a: &BoundArgs, file_fc: Option<f64>) -> Result<Band, Failure> {
 }
 
 pub fn run(a: BoundArgs) -> Result<(), Failure> {
-    let file = input::load_spikes(&a.truth).map_err(Failure::Input)?;
+    let (file, rec) = input::load_truth(&a.truth).map_err(Failure::Input)?;
+    let rate = match a.rate.or(rec.rate) {
+        Some(r) if r.is_finite() && r > 0.0 => Some(r),
+        Some(r) => {
+            return Err(Failure::Usage(format!(
+                "--rate {r}: the sample rate must be positive and finite"
+            )))
+        }
+        None => None,
+    };
     // A given σ obeys the library's noise-level rule first; then the bound needs noise (σ > 0).
     requested_noise(a.sigma)?;
     let sigma = match (a.sigma, file.sigma) {
@@ -161,7 +190,12 @@ pub fn run(a: BoundArgs) -> Result<(), Failure> {
             ))
         }
     };
-    let band = band(&a, file.fc)?;
+    let band = band(&a, file.fc, &rec)?;
+    if rate.is_some() && !band.time {
+        return Err(Failure::Usage(
+            "--rate applies to time records: this bound is for a Fourier band".into(),
+        ));
+    }
     let bound =
         crb(&band.indices, band.kmin..=band.kmax, &file.spikes, sigma).map_err(Failure::Input)?;
     let text = match a.format {
@@ -178,7 +212,7 @@ pub fn run(a: BoundArgs) -> Result<(), Failure> {
                 + "\n"
         }
         ReportFormat::Csv => csv(&bound),
-        ReportFormat::Text => text(&a, &band, sigma, &bound, &file.spikes),
+        ReportFormat::Text => text(&a, &band, sigma, &bound, &file.spikes, rate),
     };
     print!("{text}");
     Ok(())
@@ -204,7 +238,14 @@ fn csv(b: &Crb) -> String {
     out
 }
 
-fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spikes) -> String {
+fn text(
+    a: &BoundArgs,
+    band: &Band,
+    sigma: f64,
+    b: &Crb,
+    spikes: &finespike::Spikes,
+    rate: Option<f64>,
+) -> String {
     let mut out = format!(
         "Cramér–Rao bound for the {} spikes of {}\nmeasured: {}\nnoise: σ = {} (E|n_k|² = σ²)\n",
         b.per_spike.len(),
@@ -212,12 +253,21 @@ fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spi
         band.describe,
         num(sigma),
     );
-    let sep = spikes.min_separation() * b.fc;
+    let sep = spikes.min_separation();
     if sep.is_finite() {
+        // The record's resolution 1/N (one periodogram bin) and the TV theory's unit 1/fc.
+        let n = (band.kmax - band.kmin + 1) as f64;
+        let cells = sep * n;
+        let fc = sep * b.fc;
         out.push_str(&format!(
-            "closest pair: {sep:.3}/fc (Rayleigh units){}\n",
-            if sep < 1.0 {
-                " — UNDER-RESOLVED: below the Rayleigh limit, the position bounds grow fast as lines close in"
+            "closest pair: {} resolution cells (1/N) = {}/fc apart (1/fc: the TV theory's unit){}\n",
+            show::sig(cells, 3),
+            show::sig(fc, 3),
+            if cells < 1.0 {
+                " — UNDER-RESOLVED: closer than the record's resolution 1/N, the position bounds grow \
+                 fast as lines close in"
+            } else if fc < PROVEN_SEPARATION_FC {
+                " — resolved, but below the proven exact-recovery threshold of TV"
             } else {
                 ""
             }
@@ -227,7 +277,7 @@ fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spi
         "Fisher matrix condition number: {}\n\n",
         num(b.fisher_condition)
     ));
-    let head = [
+    let mut head = vec![
         "#",
         "position",
         "|a|",
@@ -236,12 +286,15 @@ fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spi
         "std |a|",
         "std arg a",
     ];
-    let rows: Vec<[String; 7]> = b
+    if rate.is_some() {
+        head.extend(["frequency", "std f"]);
+    }
+    let rows: Vec<Vec<String>> = b
         .per_spike
         .iter()
         .enumerate()
         .map(|(i, s)| {
-            [
+            let mut row = vec![
                 (i + 1).to_string(),
                 format!("{:.6}", s.position),
                 format!("{:.4}", s.amplitude.norm()),
@@ -249,7 +302,18 @@ fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spi
                 num(s.std_position),
                 num(s.std_abs_amplitude),
                 format!("{} rad", num(s.std_phase)),
-            ]
+            ];
+            if let Some(r) = rate {
+                // Signed frequency in (−R/2, R/2].
+                let p = if s.position > 0.5 {
+                    s.position - 1.0
+                } else {
+                    s.position
+                };
+                row.push(format!("{} Hz", show::sig(p * r, 7)));
+                row.push(format!("{} Hz", num(s.std_position * r)));
+            }
+            row
         })
         .collect();
     let mut widths: Vec<usize> = head.iter().map(|h| h.chars().count()).collect();
@@ -276,5 +340,12 @@ fn text(a: &BoundArgs, band: &Band, sigma: f64, b: &Crb, spikes: &finespike::Spi
          in position units\n(cycles per sample for time data); |a| and arg a: modulus and phase of the \
          amplitude.\n",
     );
+    if let Some(r) = rate {
+        out.push_str(&format!(
+            "frequency, std f: the position as a signed frequency and its bound in Hz (rate {} \
+             samples per second).\n",
+            num(r)
+        ));
+    }
     out
 }

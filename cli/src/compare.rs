@@ -81,6 +81,10 @@ pub struct CompareArgs {
     /// In a sweep, let the methods estimate σ from each trial's data instead of giving them the true σ.
     #[arg(long, requires = "trials")]
     estimate_sigma: bool,
+    /// With --input: the record's units and trend (--rate, --length, --detrend; see `recover
+    /// --help`); positions are then also printed in the record's unit.
+    #[command(flatten)]
+    record: input::RecordArgs,
     /// Output format.
     #[arg(long, value_enum, default_value_t = ReportFormat::Text)]
     format: ReportFormat,
@@ -192,6 +196,14 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             "--trials 0: at least one trial is needed".into(),
         ));
     }
+    let r = &a.record;
+    if r.rate.is_some() || r.length.is_some() || r.detrend.is_some() {
+        return Err(Failure::Usage(
+            "--rate, --length and --detrend apply to an --input file, not to a sweep of invented \
+             scenes"
+                .into(),
+        ));
+    }
     let fc = a.fc.unwrap_or(16);
     let domain = a.domain.unwrap_or(DomainArg::Fourier);
     // Settings errors surface before the first trial, not in the middle of the progress bar.
@@ -294,18 +306,26 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             ));
             out.push_str(&sweep::table(&summaries));
             out.push_str(&legend(s.snr.is_some()));
-            // The scenes' own separation (the truth, before any estimate) against the Rayleigh limit
-            // 1/fc and the library's proven threshold.
-            if s.separation < 1.0 {
+            // The scenes' own separation (the truth, before any estimate) against the record's
+            // resolution 1/N and the library's proven threshold.
+            let (n, fc_scene) = match a.samples {
+                Some(n) => (n as f64, (n as f64 - 1.0) / 2.0),
+                None => ((2 * fc + 1) as f64, fc as f64),
+            };
+            let cells = s.separation / fc_scene * n;
+            if cells < 1.0 {
                 out.push_str(&format!(
-                    "\nUNDER-RESOLVED: the closest pair is {}/fc apart, below the Rayleigh limit 1/fc; \
-                     no recovery guarantee covers these scenes and failures are expected.\n",
+                    "\nUNDER-RESOLVED: the closest pair is {} resolution cells (1/N) = {}/fc apart, \
+                     closer than the record's resolution 1/N; no recovery guarantee covers these scenes \
+                     and failures are expected.\n",
+                    show::sig(cells, 3),
                     num(s.separation)
                 ));
             } else if s.separation < PROVEN_SEPARATION_FC {
                 out.push_str(&format!(
-                    "\nNote: the closest pair is {}/fc apart, below the proven exact-recovery threshold \
-                     {}/fc for TV minimisation.\n",
+                    "\nNote: the closest pair is {} resolution cells (1/N) = {}/fc apart: resolved, but \
+                     below the proven exact-recovery threshold {}/fc for TV minimisation.\n",
+                    show::sig(cells, 3),
                     num(s.separation),
                     num(PROVEN_SEPARATION_FC)
                 ));
@@ -347,6 +367,7 @@ fn pretty(v: &serde_json::Value) -> String {
 fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result<(), Failure> {
     let noise = requested_noise(a.sigma)?;
     let data = input::load_samples(&path, a.fc, a.domain)?;
+    let data = a.record.apply(data, &path)?;
     let truth = match &a.truth {
         Some(t) => Some(input::load_spikes(t).map_err(Failure::Input)?),
         None => None,
@@ -378,7 +399,9 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
         })),
         ReportFormat::Csv => sweep::to_csv(&summaries),
         ReportFormat::Text => {
-            let sep = truth.spikes.min_separation() * data.fc();
+            let gap = truth.spikes.min_separation();
+            let sep = gap * data.fc();
+            let cells = gap * data.band_len() as f64;
             let mut out = format!(
                 "{} ({}) against {} ({} spikes{}); σ for the bound: {}\n\n",
                 shown(&path),
@@ -386,7 +409,11 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
                 a.truth.as_deref().map_or_else(String::new, shown),
                 truth.spikes.len(),
                 if sep.is_finite() {
-                    format!(", closest pair {sep:.3}/fc")
+                    format!(
+                        ", closest pair {} resolution cells (1/N) = {}/fc apart",
+                        show::sig(cells, 3),
+                        show::sig(sep, 3)
+                    )
                 } else {
                     String::new()
                 },
@@ -406,10 +433,12 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
                 }
             }
             out.push_str(&legend(bound.is_some()));
-            if sep < 1.0 {
+            if cells < 1.0 {
                 out.push_str(&format!(
-                    "\nUNDER-RESOLVED: the true spikes' closest pair is {sep:.3}/fc apart, below the \
-                     Rayleigh limit 1/fc; failures are expected behaviour here.\n"
+                    "\nUNDER-RESOLVED: the true spikes' closest pair is {} resolution cells (1/N) \
+                     apart, closer than the record's resolution 1/N; failures are expected behaviour \
+                     here.\n",
+                    show::sig(cells, 3)
                 ));
             }
             out
@@ -439,25 +468,29 @@ fn file_without_truth(
             "mode": "file",
             "input": shown(path),
             "methods": results.iter().map(|(m, r, s)| match r {
-                Ok(e) => json!({"method": m, "seconds": s, "estimate": e}),
+                Ok(e) => json!({"method": m, "seconds": s, "estimate": crate::recover::result_json(e, data)}),
                 Err(e) => json!({"method": m, "seconds": s, "error": e.to_string()}),
             }).collect::<Vec<_>>(),
         })),
         ReportFormat::Csv => {
-            let mut out =
-                String::from("method,status,spikes,separation_fc,residual_norm,seconds,error\n");
+            let mut out = String::from(
+                "method,status,lines,separation_cells,separation_fc,residual_norm,seconds,error\n",
+            );
             for (m, r, s) in &results {
                 match r {
                     Ok(e) => out.push_str(&format!(
-                        "{m},{},{},{},{},{},\n",
+                        "{m},{},{},{},{},{},{},\n",
                         e.status,
-                        e.spikes.len(),
+                        e.diagnostics.lines.len(),
+                        e.diagnostics
+                            .separation_cells
+                            .map_or_else(String::new, exact),
                         e.diagnostics.separation_fc.map_or_else(String::new, exact),
                         exact(e.diagnostics.residual_norm),
                         exact(*s)
                     )),
                     Err(e) => out.push_str(&format!(
-                        "{m},,,,,{},\"{}\"\n",
+                        "{m},,,,,,{},\"{}\"\n",
                         exact(*s),
                         e.to_string().replace('"', "'")
                     )),
@@ -472,37 +505,48 @@ fn file_without_truth(
                 show::band(data)
             );
             out.push_str(&format!(
-                "{:<8} {:>18} {:>6} {:>10} {:>11} {:>9}\n",
-                "method", "status", "spikes", "closest·fc", "residual", "seconds"
+                "{:<8} {:>18} {:>6} {:>11} {:>10} {:>11} {:>9}\n",
+                "method", "status", "lines", "closest·N", "closest·fc", "residual", "seconds"
             ));
-            out.push_str(&format!("{}\n", "-".repeat(67)));
+            out.push_str(&format!("{}\n", "-".repeat(79)));
+            let fmt = |x: Option<f64>| x.map_or_else(|| "-".to_string(), |x| format!("{x:.3}"));
             for (m, r, s) in &results {
                 match r {
                     Ok(e) => out.push_str(&format!(
-                        "{m:<8} {:>18} {:>6} {:>10} {:>11} {s:>9.4}\n",
+                        "{m:<8} {:>18} {:>6} {:>11} {:>10} {:>11} {s:>9.4}\n",
                         e.status.to_string(),
-                        e.spikes.len(),
-                        e.diagnostics
-                            .separation_fc
-                            .map_or_else(|| "-".to_string(), |x| format!("{x:.3}")),
+                        e.diagnostics.lines.len(),
+                        fmt(e.diagnostics.separation_cells),
+                        fmt(e.diagnostics.separation_fc),
                         num(e.diagnostics.residual_norm)
                     )),
                     Err(_) => out.push_str(&format!(
-                        "{m:<8} {:>18} {:>6} {:>10} {:>11} {s:>9.4}\n",
-                        "error", "-", "-", "-"
+                        "{m:<8} {:>18} {:>6} {:>11} {:>10} {:>11} {s:>9.4}\n",
+                        "error", "-", "-", "-", "-"
                     )),
                 }
             }
-            out.push('\n');
+            out.push_str(
+                "\nclosest·N: the closest pair in resolution cells 1/N (one periodogram bin); \
+                 closest·fc: in the TV theory's unit 1/fc\n\n",
+            );
+            let (what, unit) = match (data.domain(), show::unit(data)) {
+                (finespike::Domain::Time, u) => ("frequencies", format!(" ({u})")),
+                (finespike::Domain::Fourier, _) if data.scale().is_some() => {
+                    ("locations", String::new())
+                }
+                _ => ("positions", String::new()),
+            };
             for (m, r, _) in &results {
                 match r {
                     Ok(e) => {
                         let pos: Vec<String> = e
-                            .spikes
+                            .diagnostics
+                            .lines
                             .iter()
-                            .map(|s| format!("{:.6}", s.position))
+                            .map(|l| show::sig(show::line_value(l), 7))
                             .collect();
-                        out.push_str(&format!("{m}: positions {}\n", pos.join(" ")));
+                        out.push_str(&format!("{m}: {what}{unit} {}\n", pos.join(" ")));
                         for w in warnings(e) {
                             out.push_str(&format!("  warning: {w}\n"));
                         }

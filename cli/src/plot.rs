@@ -16,12 +16,18 @@ use std::path::PathBuf;
 /// Draw an SVG of the data, the spikes and the dual polynomial.
 ///
 /// The figure shows the data's zero-padded periodogram with the true (optional truth file) and
-/// recovered spikes as stems, the dual polynomial |q(t)| with the line |q| = 1 for the methods that produce one,
-/// and a caption with the separation in Rayleigh units and the estimate's warnings in plain words.
+/// recovered lines as stems, the dual polynomial |q(t)| with the line |q| = 1 for the methods that
+/// produce one, and a caption with the separation in resolution cells 1/N and in the TV theory's unit
+/// 1/fc and the estimate's warnings in plain words.
 ///
-/// The periodogram is |Σ_k y_k exp(i2πkt)| / |K| on a fine grid: an isolated spike of amplitude a shows
-/// as a peak of height about |a|, so it shares the axis with the stems. A bar of length 1/fc (the
-/// Rayleigh length) gives the scale.
+/// The axis is in the record's unit: for time records the frequency in cycles per sample, or in Hz
+/// with --rate (signed, -R/2..R/2, for complex records; 0..R/2 for real-valued ones); for Fourier
+/// data the position on [0, 1), or on [0, L) with --length.
+///
+/// The periodogram is |Σ_k y_k exp(i2πkt)| / |K| on a fine grid (twice that for a real record): an
+/// isolated line of amplitude a shows as a peak of height about |a|, so it shares the axis with the
+/// stems. A bar of the record's resolution 1/N (one periodogram bin), labelled in the axis unit,
+/// gives the scale.
 #[derive(Args, Debug)]
 #[command(after_help = crate::EXIT_CODES)]
 pub struct PlotArgs {
@@ -32,8 +38,14 @@ pub struct PlotArgs {
     truth: Option<PathBuf>,
     #[command(flatten)]
     method: MethodArgs,
-    /// Show only the positions FROM..TO of [0, 1) (e.g. `--range 0.2,0.45`).
-    #[arg(long, value_delimiter = ',', value_name = "FROM,TO")]
+    /// Show only FROM..TO of the axis, in its unit (e.g. `--range 0.2,0.45`, or `--range 100,200`
+    /// in Hz with --rate).
+    #[arg(
+        long,
+        value_delimiter = ',',
+        value_name = "FROM,TO",
+        allow_hyphen_values = true
+    )]
     range: Option<Vec<f64>>,
     /// Width of the figure in pixels.
     #[arg(long, default_value_t = 1100)]
@@ -121,9 +133,94 @@ fn envelope(points: Vec<(f64, f64)>, budget: usize) -> Vec<(f64, f64)> {
     out
 }
 
+/// The horizontal axis: positions (cycles per sample, or fractions of the domain) mapped to the
+/// record's unit.
+#[derive(Clone, Copy)]
+struct Axis {
+    /// Cycles per sample (or fraction of the domain) to the axis unit.
+    factor: f64,
+    /// Signed frequencies (−1/2, 1/2] of a complex time record.
+    signed: bool,
+    /// A real record: only [0, 1/2].
+    real: bool,
+}
+
+impl Axis {
+    fn of(data: &Measurements) -> Self {
+        Axis {
+            factor: show::factor(data),
+            signed: data.domain() == Domain::Time && !data.is_real(),
+            real: data.is_real(),
+        }
+    }
+
+    /// The whole axis in its unit.
+    fn full(self) -> (f64, f64) {
+        match (self.signed, self.real) {
+            (_, true) => (0.0, 0.5 * self.factor),
+            (true, _) => (-0.5 * self.factor, 0.5 * self.factor),
+            _ => (0.0, self.factor),
+        }
+    }
+
+    /// A position on the torus on the axis, `None` where the axis does not show it (the mirror half
+    /// of a real record).
+    fn x(self, p: f64) -> Option<f64> {
+        let q = if (self.signed || self.real) && p > 0.5 {
+            p - 1.0
+        } else {
+            p
+        };
+        if self.real && q < 0.0 {
+            return None;
+        }
+        Some(q * self.factor)
+    }
+
+    /// A curve sampled on the torus grid, on the axis and in `view`, in increasing x.
+    fn curve(self, grid: &[f64], values: &[f64], (x0, x1): (f64, f64)) -> Vec<(f64, f64)> {
+        let mut pts: Vec<(f64, f64)> = grid
+            .iter()
+            .zip(values)
+            .filter_map(|(&p, &v)| self.x(p).map(|x| (x, v)))
+            .filter(|(x, _)| *x >= x0 && *x <= x1)
+            .collect();
+        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+        pts
+    }
+}
+
+/// The stems to draw: `(position, height)` of the lines — for a real record each cosine once with its
+/// amplitude `|A|` (the estimate's lines; a truth's ±f pairs folded), else the spikes.
+fn stems(spikes: &Spikes, real: bool) -> Vec<(f64, f64)> {
+    if !real {
+        return spikes
+            .iter()
+            .map(|s| (s.position, s.amplitude.norm()))
+            .collect();
+    }
+    // A real truth holds each cosine as a pair (A/2)e^{±iφ}: the one at f ≤ 1/2 stands for both.
+    spikes
+        .iter()
+        .filter(|s| s.position <= 0.5)
+        .map(|s| {
+            let edge = s.position == 0.0 || s.position == 0.5;
+            (
+                s.position,
+                if edge { 1.0 } else { 2.0 } * s.amplitude.norm(),
+            )
+        })
+        .collect()
+}
+
 /// "1 spike", "3 spikes".
 fn spikes(n: usize) -> String {
     format!("{n} spike{}", if n == 1 { "" } else { "s" })
+}
+
+/// "1 line", "3 lines".
+fn lines_word(n: usize) -> String {
+    format!("{n} line{}", if n == 1 { "" } else { "s" })
 }
 
 fn draw_err<E: std::fmt::Display>(e: E) -> Failure {
@@ -137,12 +234,20 @@ pub fn run(a: PlotArgs) -> Result<(), Failure> {
         Some(t) => Some(input::load_spikes(t).map_err(Failure::Input)?),
         None => None,
     };
+    let axis = Axis::of(&data);
+    let (lo, hi) = axis.full();
     let (x0, x1) = match a.range.as_deref() {
-        None => (0.0, 1.0),
-        Some([lo, hi]) if 0.0 <= *lo && lo < hi && *hi <= 1.0 => (*lo, *hi),
+        None => (lo, hi),
+        Some([from, to]) if lo <= *from && from < to && *to <= hi => (*from, *to),
         Some(r) => {
             return Err(Failure::Usage(format!(
-                "--range {r:?}: expected FROM,TO with 0 <= FROM < TO <= 1"
+                "--range {r:?}: expected FROM,TO with {} <= FROM < TO <= {}{}",
+                num(lo),
+                num(hi),
+                match show::unit(&data) {
+                    "" => String::new(),
+                    u => format!(" ({u})"),
+                }
             )))
         }
     };
@@ -172,57 +277,93 @@ fn caption(
     let fc = data.fc();
     let mut raw: Vec<(String, bool)> = Vec::new();
     let kind = show::band(data);
+    let n = data.band_len() as f64;
+    // A separation in positions, in both units, each named.
     let sep = |s: Option<f64>, count: usize| match (s, count) {
-        (Some(x), _) => format!("closest pair {x:.3}/fc apart (Rayleigh units)"),
+        (Some(x), _) => format!(
+            "closest pair {} resolution cells (1/N) = {}/fc apart",
+            sig(x * n, 3),
+            sig(x * fc, 3)
+        ),
         (None, 0) => "so no separation to report".to_string(),
         (None, _) => "no pair to measure a separation on".to_string(),
     };
+    let est_sep = est.diagnostics.separation_cells.map(|c| c / n);
     raw.push((
         format!(
             "{}: {kind}. Method {}: {}, {} recovered, {}.",
             file_name(&a.samples.input[0]),
             est.method,
             est.status,
-            spikes(est.spikes.len()),
-            sep(est.diagnostics.separation_fc, est.spikes.len())
+            lines_word(est.diagnostics.lines.len()),
+            sep(est_sep, est.diagnostics.lines.len())
         ),
         false,
     ));
-    if (x0, x1) != (0.0, 1.0) {
-        let inside = |sp: &Spikes| {
-            sp.iter()
-                .filter(|s| s.position >= x0 && s.position <= x1)
+    let axis = Axis::of(data);
+    let (lo, hi) = axis.full();
+    if (x0, x1) != (lo, hi) {
+        let inside = |st: &[(f64, f64)]| {
+            st.iter()
+                .filter_map(|(p, _)| axis.x(*p))
+                .filter(|x| *x >= x0 && *x <= x1)
                 .count()
         };
+        let est_stems = stems(&est.spikes, false);
+        let est_lines: Vec<(f64, f64)> = est
+            .diagnostics
+            .lines
+            .iter()
+            .map(|l| (l.position, l.amplitude.norm()))
+            .collect();
+        let shown_est = if data.is_real() {
+            &est_lines
+        } else {
+            &est_stems
+        };
         let mut line = format!(
-            "View {}..{} of [0, 1): {} of {} recovered spikes shown",
+            "View {}..{} of {}..{}{}: {} of {} recovered lines shown",
             num(x0),
             num(x1),
-            inside(&est.spikes),
-            est.spikes.len()
+            num(lo),
+            num(hi),
+            match show::unit(data) {
+                "" => String::new(),
+                u => format!(" {u}"),
+            },
+            inside(shown_est),
+            shown_est.len()
         );
         if let Some(t) = truth {
-            line.push_str(&format!(
-                ", {} of {} true spikes",
-                inside(&t.spikes),
-                t.spikes.len()
-            ));
+            let ts = stems(&t.spikes, data.is_real());
+            line.push_str(&format!(", {} of {} true lines", inside(&ts), ts.len()));
         }
         line.push('.');
         raw.push((line, false));
     }
     if let Some(t) = truth {
         let s = t.spikes.min_separation() * fc;
+        let what = if data.is_real() {
+            lines_word(stems(&t.spikes, true).len())
+        } else {
+            spikes(t.spikes.len())
+        };
         let mut line = format!(
-            "Truth ({}): {}, {}",
+            "Truth ({}): {what}, {}",
             a.truth.as_deref().map_or_else(String::new, file_name),
-            spikes(t.spikes.len()),
-            sep(s.is_finite().then_some(s), t.spikes.len())
+            sep(s.is_finite().then_some(s / fc), t.spikes.len())
         );
         if let Ok(score) = metrics::score(&est.spikes, &t.spikes, fc) {
             line.push_str(&format!(
-                "; found {}, missed {}, spurious {}",
-                score.found, score.missed, score.spurious
+                "; found {}, missed {}, spurious {}{}",
+                score.found,
+                score.missed,
+                score.spurious,
+                if data.is_real() {
+                    " (counted on the complex model's ±f atoms)"
+                } else {
+                    ""
+                }
             ));
             if let Some(e) = score.max_position_error_fc {
                 line.push_str(&format!(", largest position error {}/fc", sig(e, 3)));
@@ -230,11 +371,12 @@ fn caption(
         }
         line.push('.');
         raw.push((line, false));
-        if s < 1.0 {
+        if s * n < fc {
             raw.push((
                 format!(
-                    "UNDER-RESOLVED truth: two true lines are {s:.3}/fc apart, closer than the Rayleigh \
-                     limit 1/fc; no method is guaranteed to separate them."
+                    "UNDER-RESOLVED truth: two true lines are {} resolution cells (1/N) apart, closer \
+                     than the record's resolution 1/N; no method is guaranteed to separate them.",
+                    sig(s * n / fc, 3)
                 ),
                 true,
             ));
@@ -284,16 +426,21 @@ fn render(
     (x0, x1): (f64, f64),
 ) -> Result<String, Failure> {
     let width = a.width;
-    let fc = data.fc();
+    let axis = Axis::of(data);
+    let real = data.is_real();
     // Grid: at least 16 points per coefficient over the whole torus, and at least 1500 in view.
+    let (lo, hi) = axis.full();
     let view = x1 - x0;
-    let m = ((16 * data.band_len()).max((1500.0 / view) as usize))
+    let m = ((16 * data.band_len()).max((1500.0 * (hi - lo) / view) as usize))
         .next_power_of_two()
         .min(1 << 20);
     let budget = 4 * width as usize;
-    let in_view = |t: f64| t >= x0 && t <= x1;
     let grid: Vec<f64> = (0..m).map(|j| j as f64 / m as f64).collect();
-    let pg = periodogram(data, m);
+    // A real record's cosine of amplitude A is a pair of peaks of height A/2: doubled, it shares
+    // the axis with the stems |A|.
+    let gain = if real { 2.0 } else { 1.0 };
+    let pg: Vec<f64> = periodogram(data, m).iter().map(|v| gain * v).collect();
+    let pg_curve = axis.curve(&grid, &pg, (x0, x1));
     let dual: Option<Vec<f64>> = est
         .dual
         .as_ref()
@@ -304,20 +451,40 @@ fn render(
     let cap_h = 24 * lines.len() as u32 + 24;
     let height = top_h + mid_h + cap_h;
 
-    let truth_spikes: Spikes = truth.map(|t| t.spikes.clone()).unwrap_or_default();
-    let ymax = grid
+    let on_axis = |st: Vec<(f64, f64)>| -> Vec<(f64, f64)> {
+        st.into_iter()
+            .filter_map(|(p, h)| axis.x(p).map(|x| (x, h)))
+            .filter(|(x, _)| *x >= x0 && *x <= x1)
+            .collect()
+    };
+    let shown_truth = on_axis(truth.map(|t| stems(&t.spikes, real)).unwrap_or_default());
+    let shown_est = on_axis(if real {
+        est.diagnostics
+            .lines
+            .iter()
+            .map(|l| (l.position, l.amplitude.norm()))
+            .collect()
+    } else {
+        stems(&est.spikes, false)
+    });
+    let ymax = pg_curve
         .iter()
-        .zip(&pg)
-        .filter(|(t, _)| in_view(**t))
         .map(|(_, p)| *p)
-        .chain(truth_spikes.iter().map(|s| s.amplitude.norm()))
-        .chain(est.spikes.iter().map(|s| s.amplitude.norm()))
+        .chain(shown_truth.iter().map(|s| s.1))
+        .chain(shown_est.iter().map(|s| s.1))
         .fold(0.0f64, f64::max)
         .max(1e-12)
         * 1.4; // headroom for the legend box above the tallest peak
-    let x_desc = match data.domain() {
-        Domain::Fourier => "position τ on [0, 1)".to_string(),
-        Domain::Time => "frequency f (cycles per sample)".to_string(),
+    let x_desc = match (data.domain(), show::unit(data)) {
+        (Domain::Fourier, _) if data.scale().is_some() => "position on [0, L)".to_string(),
+        (Domain::Fourier, _) => "position τ on [0, 1)".to_string(),
+        (Domain::Time, "Hz") => "frequency f (Hz)".to_string(),
+        (Domain::Time, _) => "frequency f (cycles per sample)".to_string(),
+    };
+    let pg_label = if real {
+        "2 × periodogram |Σ y_n exp(−i2πfn)| / |K|"
+    } else {
+        "periodogram |Σ y_k exp(i2πkt)| / |K|"
     };
 
     let mut svg = String::new();
@@ -353,31 +520,23 @@ fn render(
             .map_err(draw_err)?;
         chart
             .draw_series(LineSeries::new(
-                envelope(
-                    grid.iter()
-                        .zip(&pg)
-                        .filter(|(t, _)| in_view(**t))
-                        .map(|(t, p)| (*t, *p))
-                        .collect(),
-                    budget,
-                ),
+                envelope(pg_curve, budget),
                 DATA.stroke_width(2),
             ))
             .map_err(draw_err)?
-            .label("periodogram |Σ y_k exp(i2πkt)| / |K|")
+            .label(pg_label)
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], DATA.stroke_width(2)));
-        if !truth_spikes.is_empty() {
-            let shown_truth: Vec<(f64, f64)> = truth_spikes
-                .iter()
-                .filter(|s| in_view(s.position))
-                .map(|s| (s.position, s.amplitude.norm()))
-                .collect();
+        if !shown_truth.is_empty() {
             chart
                 .draw_series(shown_truth.iter().map(|&(x, h)| {
                     PathElement::new(vec![(x, 0.0), (x, h)], TRUE.mix(0.55).stroke_width(6))
                 }))
                 .map_err(draw_err)?
-                .label("true spikes |a|")
+                .label(if real {
+                    "true lines |A|"
+                } else {
+                    "true spikes |a|"
+                })
                 .legend(|(x, y)| {
                     EmptyElement::at((x + 11, y)) + Circle::new((0, 0), 7, TRUE.stroke_width(2))
                 });
@@ -389,12 +548,6 @@ fn render(
                 )
                 .map_err(draw_err)?;
         }
-        let shown_est: Vec<(f64, f64)> = est
-            .spikes
-            .iter()
-            .filter(|s| in_view(s.position))
-            .map(|s| (s.position, s.amplitude.norm()))
-            .collect();
         chart
             .draw_series(
                 shown_est
@@ -402,7 +555,11 @@ fn render(
                     .map(|&(x, h)| PathElement::new(vec![(x, 0.0), (x, h)], FOUND.stroke_width(2))),
             )
             .map_err(draw_err)?
-            .label(format!("recovered spikes |â| ({})", est.method))
+            .label(if real {
+                format!("recovered lines |Â| ({})", est.method)
+            } else {
+                format!("recovered spikes |â| ({})", est.method)
+            })
             .legend(|(x, y)| {
                 EmptyElement::at((x + 11, y)) + Circle::new((0, 0), 4, FOUND.filled())
             });
@@ -413,20 +570,24 @@ fn render(
                     .map(|&(x, h)| Circle::new((x, h), 4, FOUND.filled())),
             )
             .map_err(draw_err)?;
-        // Scale bar: one Rayleigh length.
+        // Scale bar: the record's resolution 1/N in the axis unit.
+        let resolution = data.resolution();
         let bar_y = ymax * 0.93;
         let bar_x = x0 + 0.02 * view;
-        let len = (1.0 / fc).min(0.5 * view);
+        let len = resolution.min(0.5 * view);
         chart
             .draw_series(std::iter::once(PathElement::new(
                 vec![(bar_x, bar_y), (bar_x + len, bar_y)],
                 INK.stroke_width(3),
             )))
             .map_err(draw_err)?;
-        let bar_label = if len < 1.0 / fc {
-            "1/fc (wider than half the view)".to_string()
+        let bar_label = if len < resolution {
+            format!(
+                "resolution {} (wider than half the view)",
+                show::resolution(data)
+            )
         } else {
-            format!("1/fc = {:.4}", 1.0 / fc)
+            format!("resolution {}", show::resolution(data))
         };
         chart
             .draw_series(std::iter::once(Text::new(
@@ -473,24 +634,17 @@ fn render(
             ))
             .map_err(draw_err)?;
             qc.draw_series(LineSeries::new(
-                envelope(
-                    grid.iter()
-                        .zip(q)
-                        .filter(|(t, _)| in_view(**t))
-                        .map(|(t, v)| (*t, *v))
-                        .collect(),
-                    budget,
-                ),
+                envelope(axis.curve(&grid, q, (x0, x1)), budget),
                 DUAL.stroke_width(2),
             ))
             .map_err(draw_err)?;
-            qc.draw_series(est.spikes.iter().filter(|s| in_view(s.position)).map(|s| {
-                Circle::new(
-                    (s.position, poly.eval(s.position).norm()),
-                    4,
-                    FOUND.filled(),
-                )
-            }))
+            qc.draw_series(
+                est.spikes
+                    .iter()
+                    .filter_map(|s| axis.x(s.position).map(|x| (x, s.position)))
+                    .filter(|(x, _)| *x >= x0 && *x <= x1)
+                    .map(|(x, p)| Circle::new((x, poly.eval(p).norm()), 4, FOUND.filled())),
+            )
             .map_err(draw_err)?;
         }
 

@@ -1,18 +1,26 @@
 //! `recover`: one estimator on one sample file; the result on stdout, a readable summary on stderr.
 
-use crate::show::{num, sig};
+use crate::show::{self, num, sig};
 use crate::{configure, input, requested_noise, Failure, Format, MethodArgs};
 use clap::Args;
-use finespike::eval::io;
-use finespike::{Estimate, NoiseLevel, Warning, PROVEN_SEPARATION_FC};
+use finespike::{Domain, Estimate, Measurements, NoiseLevel, Warning, PROVEN_SEPARATION_FC};
+use serde_json::{json, Value};
 
-/// Recover spikes from a sample file with one method.
+/// Recover spikes (lines) from a sample file with one method.
 ///
 /// The result goes to stdout as JSON (or CSV); a short summary of the diagnostics and every warning
-/// go to stderr. The summary gives the solver status and iterations, the noise level used and whether it was
-/// estimated, the separation of the recovered spikes in Rayleigh units against the proven threshold,
-/// the residual against the noise, the certificate margin (convex methods), the model order (subspace
-/// methods) and the Cramér–Rao standard deviation of each position.
+/// go to stderr. The summary gives the record (N samples, their index range, the resolution 1/N in
+/// the record's unit), the solver status and iterations, the noise level used and whether it was
+/// estimated, the separation of the closest lines in resolution cells 1/N and in the TV theory's
+/// unit 1/fc, the residual against the noise, the certificate margin (convex methods), the model
+/// order (subspace methods) and each line with its Cramér–Rao standard deviation.
+///
+/// Each line is reported once: for a real-valued record (`n,value`) one line per cosine
+/// A cos(2πfn + φ), at f in [0, 1/2] cycles per sample ([0, R/2] Hz with --rate) with the phasor
+/// amplitude A e^{iφ} (phase at n = 0 as the file numbers the samples). JSON: `lines` (position,
+/// frequency or location, amplitude [re, im], abs_amplitude, phase_deg, crb_std in the record's
+/// unit), `resolution`, `separation_cells` (in 1/N), `separation_fc` (in 1/fc), `trend` (the fitted
+/// offset or trend), `record`, and the complex-model `spikes`, `status` and `diagnostics`.
 #[derive(Args, Debug)]
 #[command(after_help = crate::EXIT_CODES)]
 pub struct RecoverArgs {
@@ -41,6 +49,7 @@ pub fn run(a: RecoverArgs) -> Result<(), Failure> {
             "{}",
             summary(
                 &estimate,
+                &data,
                 finespike::registry::method(&a.method.method).is_ok(),
                 noise
             )
@@ -48,8 +57,8 @@ pub fn run(a: RecoverArgs) -> Result<(), Failure> {
     }
     report_warnings(&estimate);
     let text = match a.format {
-        Format::Json => io::estimate_to_json(&estimate),
-        Format::Csv => crate::show::spikes_csv(&estimate.spikes),
+        Format::Json => pretty(&result_json(&estimate, &data)),
+        Format::Csv => show::lines_csv(&estimate.diagnostics.lines, &data),
     };
     println!("{}", text.trim_end());
     Ok(())
@@ -77,7 +86,9 @@ fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
         .iter()
         .filter_map(|r| r.as_ref().ok().cloned())
         .collect();
-    let mut estimates = finespike::estimate_batch(estimator.as_ref(), &records).into_iter();
+    let mut estimates = finespike::estimate_batch(estimator.as_ref(), &records)
+        .into_iter()
+        .zip(records.iter());
     let mut first_failure: Option<Failure> = None;
     for (path, load) in a.samples.input.iter().zip(loaded) {
         let shown = crate::shown(path);
@@ -88,17 +99,17 @@ fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
                 serde_json::json!({ "input": shown, "error": text })
             }
             Ok(_) => match estimates.next() {
-                Some(Ok(estimate)) => {
+                Some((Ok(estimate), data)) => {
                     for w in warnings(&estimate) {
                         eprintln!("warning: {shown}: {w}");
                     }
-                    let mut v = serde_json::to_value(&estimate).unwrap_or_default();
+                    let mut v = result_json(&estimate, data);
                     if let Some(obj) = v.as_object_mut() {
-                        obj.insert("input".into(), serde_json::Value::String(shown));
+                        obj.insert("input".into(), Value::String(shown));
                     }
                     v
                 }
-                Some(Err(e)) => {
+                Some((Err(e), _)) => {
                     let text = e.to_string();
                     first_failure.get_or_insert(Failure::Estimate(e));
                     serde_json::json!({ "input": shown, "error": text })
@@ -114,6 +125,90 @@ fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
         Some(f) => Err(f),
         None => Ok(()),
     }
+}
+
+/// Pretty JSON text of a value.
+fn pretty(v: &Value) -> String {
+    serde_json::to_string_pretty(v).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+}
+
+/// A number for JSON: `null` when it is not finite.
+fn number(x: f64) -> Value {
+    serde_json::Number::from_f64(x).map_or(Value::Null, Value::Number)
+}
+
+/// The result of `recover` as JSON: the estimate as the library serialises it (`spikes`, `method`,
+/// `status`, `diagnostics`; still a spike file) with, at the top, what users read: `lines` (each
+/// line once, in the record's unit), `resolution`, `separation_cells`, `separation_fc`, `trend` and
+/// `record`.
+pub fn result_json(estimate: &Estimate, data: &Measurements) -> Value {
+    let d = &estimate.diagnostics;
+    let time = data.domain() == Domain::Time;
+    let lines: Vec<Value> = d
+        .lines
+        .iter()
+        .map(|l| {
+            let mut o = serde_json::Map::new();
+            o.insert("position".into(), number(l.position));
+            if time {
+                o.insert("frequency".into(), number(show::line_value(l)));
+            } else if let Some(x) = l.location {
+                o.insert("location".into(), number(x));
+            }
+            o.insert(
+                "amplitude".into(),
+                json!([number(l.amplitude.re), number(l.amplitude.im)]),
+            );
+            o.insert("abs_amplitude".into(), number(l.amplitude.norm()));
+            o.insert("phase_deg".into(), number(show::phase_deg(l)));
+            o.insert(
+                "crb_std".into(),
+                show::line_crb(l, data).map_or(Value::Null, number),
+            );
+            Value::Object(o)
+        })
+        .collect();
+    let (first, last) = data.user_span();
+    let scale = match data.scale() {
+        Some(finespike::Scale::SampleRate(r)) => json!({ "rate": r }),
+        Some(finespike::Scale::DomainLength(l)) => json!({ "length": l }),
+        None => Value::Null,
+    };
+    let record = json!({
+        "domain": if time { "time" } else { "fourier" },
+        "real": data.is_real(),
+        "first": first,
+        "last": last,
+        "samples": data.band_len(),
+        "measured": data.len(),
+        "scale": scale,
+        "unit": match show::unit(data) { "" => Value::Null, u => Value::String(u.into()) },
+        "detrend": data.trend().to_string(),
+    });
+    let trend = d.trend.as_ref().map_or(Value::Null, |t| {
+        json!({
+            "trend": t.trend.to_string(),
+            "centre": number(t.centre),
+            "coefficients": t.coefficients.iter().map(|c| json!([number(c.re), number(c.im)])).collect::<Vec<_>>(),
+            "form": "sum over d of coefficients[d] * (n - centre)^d",
+        })
+    });
+    let mut v = serde_json::to_value(estimate).unwrap_or_default();
+    if let Some(obj) = v.as_object_mut() {
+        obj.insert("lines".into(), Value::Array(lines));
+        obj.insert("resolution".into(), number(data.resolution()));
+        obj.insert(
+            "separation_cells".into(),
+            d.separation_cells.map_or(Value::Null, number),
+        );
+        obj.insert(
+            "separation_fc".into(),
+            d.separation_fc.map_or(Value::Null, number),
+        );
+        obj.insert("trend".into(), trend);
+        obj.insert("record".into(), record);
+    }
+    v
 }
 
 /// The message of a failure, as the error line would print it.
@@ -150,29 +245,26 @@ pub fn report_warnings(estimate: &Estimate) {
     }
 }
 
-fn list(values: &[f64]) -> String {
-    values
-        .iter()
-        .map(|v| num(*v))
-        .collect::<Vec<_>>()
-        .join(", ")
-}
-
 /// The separation verdict the estimate carries: the library's separation warnings, not a re-derived
 /// threshold.
 fn separation_verdict(estimate: &Estimate) -> &'static str {
     let warned = |pick: fn(&Warning) -> bool| estimate.diagnostics.warnings.iter().any(pick);
     if warned(|w| matches!(w, Warning::UnderResolved { .. })) {
-        ", Rayleigh limit 1/fc: UNDER-RESOLVED"
+        "; UNDER-RESOLVED: closer than the record's resolution 1/N"
     } else if warned(|w| matches!(w, Warning::BelowProvenSeparation { .. })) {
-        ": below it"
+        "; resolved, but below the proven exact-recovery threshold of TV"
     } else {
         ""
     }
 }
 
 /// The readable summary of an estimate's diagnostics (several lines, each ending in a newline).
-pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> String {
+pub fn summary(
+    estimate: &Estimate,
+    data: &Measurements,
+    uses_noise: bool,
+    requested: NoiseLevel,
+) -> String {
     let d = &estimate.diagnostics;
     let mut steps = match d.iterations {
         0 => "direct method, no iterations".to_string(),
@@ -194,6 +286,17 @@ pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> 
     let row = |out: &mut String, label: &str, text: String| {
         out.push_str(&format!("  {label:<12} {text}\n"));
     };
+    let detrend = match data.trend() {
+        finespike::Trend::None => "no offset or trend fitted".to_string(),
+        finespike::Trend::Mean => "offset (mean) fitted with the lines".to_string(),
+        finespike::Trend::Linear => "offset and linear trend fitted with the lines".to_string(),
+        t => format!("polynomial trend ({t}) fitted with the lines"),
+    };
+    row(
+        &mut out,
+        "record",
+        format!("{}; {detrend}", show::band(data)),
+    );
     let noise = match (d.sigma, uses_noise) {
         (_, false) => "not used by this method".to_string(),
         (None, true) if requested == NoiseLevel::Exact => {
@@ -219,17 +322,64 @@ pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> 
         ),
     };
     row(&mut out, "noise", noise);
-    let n = estimate.spikes.len();
-    let spikes = match d.separation_fc {
-        Some(s) => format!(
-            "{n} recovered; closest pair {s:.3}/fc apart (Rayleigh units; proven exact-recovery \
-             threshold {}/fc{})",
+    let n = d.lines.len();
+    let noun = if n == 1 { "line" } else { "lines" };
+    let spikes = match (d.separation_cells, d.separation_fc) {
+        (Some(cells), Some(fc)) => format!(
+            "{n} {noun} recovered; closest pair {} resolution cells (1/N) = {}/fc apart (1/fc: the \
+             TV theory's unit; proven exact-recovery threshold {}/fc{})",
+            sig(cells, 3),
+            sig(fc, 3),
             num(PROVEN_SEPARATION_FC),
             separation_verdict(estimate)
         ),
-        None => format!("{n} recovered"),
+        _ => format!("{n} {noun} recovered"),
     };
-    row(&mut out, "spikes", spikes);
+    row(&mut out, "lines", spikes);
+    for (i, l) in d.lines.iter().enumerate() {
+        let crb = show::line_crb(l, data).map_or_else(String::new, |s| {
+            format!(", CRB std {}", show::with_unit(&num(s), data))
+        });
+        let what = match (data.domain(), l.location) {
+            (Domain::Time, _) => "frequency",
+            (Domain::Fourier, Some(_)) => "location",
+            (Domain::Fourier, None) => "position",
+        };
+        row(
+            &mut out,
+            "",
+            format!(
+                "#{}: {what} {}, |amplitude| {}, phase {}°{crb}",
+                i + 1,
+                show::with_unit(&sig(show::line_value(l), 7), data),
+                num(l.amplitude.norm()),
+                sig(show::phase_deg(l), 4)
+            ),
+        );
+    }
+    if let Some(t) = &d.trend {
+        let coeffs: Vec<String> = t
+            .coefficients
+            .iter()
+            .map(|c| {
+                if data.is_real() {
+                    num(c.re)
+                } else {
+                    format!("{}{:+}i", num(c.re), num(c.im))
+                }
+            })
+            .collect();
+        row(
+            &mut out,
+            "trend",
+            format!(
+                "{}: coefficients of (n − {})^d, d = 0..: {}",
+                t.trend,
+                sig(t.centre, 12),
+                coeffs.join(", ")
+            ),
+        );
+    }
     let mut residual = format!(
         "‖y − Fμ̂‖ = {} against ‖y‖ = {}",
         num(d.residual_norm),
@@ -260,16 +410,6 @@ pub fn summary(estimate: &Estimate, uses_noise: bool, requested: NoiseLevel) -> 
             format!("{} ({})", m.order, m.method),
         );
     }
-    if let Some(stds) = &d.crb_std_position_fc {
-        row(
-            &mut out,
-            "position CRB",
-            format!(
-                "one std per spike, in 1/fc: {} (plug-in bound, estimates taken as truth)",
-                list(stds)
-            ),
-        );
-    }
     out
 }
 
@@ -282,9 +422,7 @@ mod tests {
     /// An estimate of two spikes 1.1/fc apart at fc = 8 (an invented scene), with `status` and the
     /// warnings `warnings` (the library's verdicts) in place of the ones `describe` derives.
     fn estimate(status: Status, warnings: Vec<Warning>) -> Estimate {
-        let k: Vec<i64> = (-8..=8).collect();
-        let y = vec![Complex64::new(1.0, 0.0); k.len()];
-        let data = Measurements::in_band(-8, 8, &k, &y, finespike::Domain::Fourier).unwrap();
+        let data = band();
         let spikes = Spikes::new(vec![
             Spike::new(0.2, Complex64::new(1.0, 0.0)),
             Spike::new(0.2 + 1.1 / 8.0, Complex64::new(1.0, 0.0)),
@@ -299,6 +437,13 @@ mod tests {
             diagnostics,
             dual: None,
         }
+    }
+
+    /// The band −8..8 of the invented scene of [`estimate`].
+    fn band() -> Measurements {
+        let k: Vec<i64> = (-8..=8).collect();
+        let y = vec![Complex64::new(1.0, 0.0); k.len()];
+        Measurements::in_band(-8, 8, &k, &y, finespike::Domain::Fourier).unwrap()
     }
 
     #[test]
@@ -320,17 +465,32 @@ mod tests {
     #[test]
     fn the_separation_verdict_is_the_librarys() {
         let line = |w: Vec<Warning>| {
-            summary(&estimate(Status::Solved, w), true, NoiseLevel::Estimate)
-                .lines()
-                .find(|l| l.contains("closest pair"))
-                .unwrap()
-                .to_string()
+            summary(
+                &estimate(Status::Solved, w),
+                &band(),
+                true,
+                NoiseLevel::Estimate,
+            )
+            .lines()
+            .find(|l| l.contains("closest pair"))
+            .unwrap()
+            .to_string()
         };
         let below = line(vec![Warning::BelowProvenSeparation {
             separation_fc: 1.1,
             separation_cells: 2.2,
         }]);
-        assert!(below.ends_with("threshold 1.26/fc: below it)"), "{below}");
+        assert!(
+            below.ends_with(
+                "1.26/fc; resolved, but below the proven exact-recovery threshold of TV)"
+            ),
+            "{below}"
+        );
+        // Both units, each named: 1.1/fc at fc = 8 is 1.1·17/8 = 2.34 cells of 1/N (N = 17).
+        assert!(
+            below.contains("closest pair 2.34 resolution cells (1/N) = 1.1/fc apart"),
+            "{below}"
+        );
         let under = line(vec![Warning::UnderResolved {
             separation_fc: 0.4,
             separation_cells: 0.8,

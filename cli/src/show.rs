@@ -2,9 +2,9 @@
 //!
 //! Text reports use [`num`] (4 significant digits) or [`sig`]; machine-readable CSV uses [`exact`],
 //! which keeps every digit of the `f64` (it reads back to the same number), in the files this tool
-//! writes ([`samples_csv`], [`spikes_csv`]) as in its reports.
+//! writes ([`samples_csv`], [`lines_csv`]) as in its reports.
 
-use finespike::{Domain, Measurements, Spikes};
+use finespike::{Domain, Line, Measurements, Scale};
 
 /// Fixed notation is used for magnitudes in `[SMALL, LARGE)`, an exponent outside (the switch to an
 /// exponent below 1e-4 is that of C's `%g`, common practice).
@@ -55,10 +55,13 @@ fn trim_zeros(text: &str) -> String {
 }
 
 /// How the measured set is described: "33 coefficients, fc = 16" (a Fourier band, or "17 of the 33
-/// coefficients of the band, fc = 16" with gaps) or "N = 64 time samples" (a time record, whose length
-/// says more than its fc = (N − 1)/2, which is fractional for even N).
+/// coefficients of the band, fc = 16" with gaps) or "N = 64 time samples (n = 0..63)" (a time record,
+/// whose length says more than its fc = (N − 1)/2, which is fractional for even N; "497 of N = 512
+/// time samples (n = 1000..1511)" with gaps), followed by the record's resolution 1/N in its unit
+/// ("resolution 1/N = 1.953 Hz").
 pub fn band(data: &Measurements) -> String {
-    match data.domain() {
+    let (first, last) = data.user_span();
+    let what = match data.domain() {
         Domain::Fourier if data.is_full_band() => {
             format!("{} coefficients, fc = {}", data.len(), num(data.fc()))
         }
@@ -68,20 +71,96 @@ pub fn band(data: &Measurements) -> String {
             data.band_len(),
             num(data.fc())
         ),
-        Domain::Time if data.is_full_band() => format!("N = {} time samples", data.len()),
-        Domain::Time => format!("{} of N = {} time samples", data.len(), data.band_len()),
+        Domain::Time if data.is_full_band() => {
+            format!("N = {} time samples (n = {first}..{last})", data.len())
+        }
+        Domain::Time => format!(
+            "{} of N = {} time samples (n = {first}..{last})",
+            data.len(),
+            data.band_len()
+        ),
+    };
+    let kind = if data.is_real() { ", real-valued" } else { "" };
+    format!("{what}{kind}, resolution {}", resolution(data))
+}
+
+/// The unit positions are reported in: `Hz` for a time record with a sample rate, `cycles/sample`
+/// without one; for Fourier data "" (a fraction of the domain, or the unit of its length).
+pub fn unit(data: &Measurements) -> &'static str {
+    match (data.domain(), data.scale()) {
+        (Domain::Time, Some(Scale::SampleRate(_))) => "Hz",
+        (Domain::Time, _) => "cycles/sample",
+        _ => "",
     }
 }
 
-/// Measurements as a sample file: `k,re,im` (Fourier coefficients, by k) or `n,re,im` (time samples,
-/// by n), every value in full ([`exact`]): the library's writer.
-pub fn samples_csv(data: &Measurements) -> String {
-    finespike::eval::io::samples_to_csv(data)
+/// `x` followed by the record's unit ("123.4 Hz", "0.25 cycles/sample", "0.25").
+pub fn with_unit(x: &str, data: &Measurements) -> String {
+    match unit(data) {
+        "" => x.to_string(),
+        u => format!("{x} {u}"),
+    }
 }
 
-/// Spikes as CSV `position,re,im`, every value in full ([`exact`]): the library's writer.
-pub fn spikes_csv(spikes: &Spikes) -> String {
-    finespike::eval::io::spikes_to_csv(spikes)
+/// The record's resolution in its unit: "1/N = 1.953 Hz" (`R/N` with a rate), "1/N = 0.01562
+/// cycles/sample", "L/N = 0.2" for Fourier data with a domain length.
+pub fn resolution(data: &Measurements) -> String {
+    let name = match data.scale() {
+        Some(Scale::DomainLength(_)) => "L/N",
+        _ => "1/N",
+    };
+    format!("{name} = {}", with_unit(&num(data.resolution()), data))
+}
+
+/// The factor from cycles per sample (or fractions of the domain) to the record's unit.
+pub fn factor(data: &Measurements) -> f64 {
+    data.scale().map_or(1.0, Scale::factor)
+}
+
+/// A line's position in the record's unit: its frequency for a time record (Hz with a rate), its
+/// location for Fourier data with a length, else its position.
+pub fn line_value(line: &Line) -> f64 {
+    line.frequency.or(line.location).unwrap_or(line.position)
+}
+
+/// A line's Cramér–Rao standard deviation in the record's unit, when known.
+pub fn line_crb(line: &Line, data: &Measurements) -> Option<f64> {
+    line.crb_std_position.map(|s| s * factor(data))
+}
+
+/// A line's phase in degrees.
+pub fn phase_deg(line: &Line) -> f64 {
+    line.amplitude.arg().to_degrees()
+}
+
+/// The lines of an estimate as CSV: `position,frequency,re,im,abs_amplitude,phase_deg,crb_std`
+/// (`location` in place of `frequency` for Fourier data), every value in full; `crb_std` in the
+/// record's unit and empty when no bound is known.
+pub fn lines_csv(lines: &[Line], data: &Measurements) -> String {
+    let second = match data.domain() {
+        Domain::Time => "frequency",
+        Domain::Fourier => "location",
+    };
+    let mut out = format!("position,{second},re,im,abs_amplitude,phase_deg,crb_std\n");
+    for l in lines {
+        out.push_str(&format!(
+            "{},{},{},{},{},{},{}\n",
+            exact(l.position),
+            exact(line_value(l)),
+            exact(l.amplitude.re),
+            exact(l.amplitude.im),
+            exact(l.amplitude.norm()),
+            exact(phase_deg(l)),
+            line_crb(l, data).map_or_else(String::new, exact)
+        ));
+    }
+    out
+}
+
+/// Measurements as a sample file: `k,re,im` (Fourier coefficients, by k), `n,re,im` (time samples,
+/// by n) or `n,value` (a real record), every value in full ([`exact`]): the library's writer.
+pub fn samples_csv(data: &Measurements) -> String {
+    finespike::eval::io::samples_to_csv(data)
 }
 
 #[cfg(test)]
@@ -141,11 +220,27 @@ mod tests {
     fn bands_are_described_by_fc_or_by_length() {
         let y = vec![num_complex::Complex64::new(1.0, 0.0); 64];
         let record = Measurements::from_time_samples(&y).unwrap();
-        assert_eq!(band(&record), "N = 64 time samples");
+        assert_eq!(
+            band(&record),
+            "N = 64 time samples (n = 0..63), resolution 1/N = 0.01562 cycles/sample"
+        );
+        let x: Vec<f64> = (0..512).map(|n| (0.3 * n as f64).cos()).collect();
+        let t: Vec<i64> = (1000..1512).collect();
+        let real = Measurements::from_real_subset(&t, &x)
+            .unwrap()
+            .with_scale(finespike::Scale::SampleRate(1000.0))
+            .unwrap();
+        assert_eq!(
+            band(&real),
+            "N = 512 time samples (n = 1000..1511), real-valued, resolution 1/N = 1.953 Hz"
+        );
         let k: Vec<i64> = (-16..=16).collect();
         let y = vec![num_complex::Complex64::new(1.0, 0.0); 33];
         let full = Measurements::in_band(-16, 16, &k, &y, Domain::Fourier).unwrap();
-        assert_eq!(band(&full), "33 coefficients, fc = 16");
+        assert_eq!(
+            band(&full),
+            "33 coefficients, fc = 16, resolution 1/N = 0.0303"
+        );
     }
 
     #[test]

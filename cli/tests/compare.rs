@@ -80,11 +80,34 @@ fn compare_sweep_tallies_every_trial() {
         "--count",
         "2",
         "--separation",
+        "0.4",
+        "--methods",
+        "esprit",
+    ]));
+    // 0.4/fc at fc = 8 is 0.4·17/8 = 0.85 resolution cells 1/N (N = 17): below the resolution.
+    assert!(
+        text.contains("UNDER-RESOLVED: the closest pair is 0.85 resolution cells (1/N) = 0.4/fc"),
+        "{text}"
+    );
+    // 0.7/fc is 1.49 cells: resolved, but below the proven threshold 1.26/fc (a separate caution).
+    let text = ok(&run(&[
+        "compare",
+        "--trials",
+        "1",
+        "--fc",
+        "8",
+        "--count",
+        "2",
+        "--separation",
         "0.7",
         "--methods",
         "esprit",
     ]));
-    assert!(text.contains("UNDER-RESOLVED"), "{text}");
+    assert!(!text.contains("UNDER-RESOLVED"), "{text}");
+    assert!(
+        text.contains("1.49 resolution cells (1/N) = 0.7/fc apart: resolved, but below the proven"),
+        "{text}"
+    );
     // Unknown method names and --trials 0 are command-line errors.
     let out = run(&["compare", "--trials", "1", "--methods", "sdp,nosuch"]);
     assert_eq!(out.status.code(), Some(2));

@@ -67,10 +67,34 @@ fn malformed_sample_files_name_file_line_found_and_expected() {
             "line 4: found k = 5, expected |k| <= fc = 4",
         ),
         (
-            "negative_time.csv",
-            "n,re,im\n0,1,0\n-1,1,0\n",
+            "fractional_time.csv",
+            "n,value\n1000,1\n1001.0,2\n1002.5,1\n",
             &[],
-            "line 3: found n = -1, expected a sample time n >= 0",
+            "line 4: found '1002.5' in column n, expected an integer sample index",
+        ),
+        (
+            "real_extra_field.csv",
+            "n,value\n0,1\n1,2,3\n",
+            &[],
+            "line 3: found 3 fields, expected 2 (n,value)",
+        ),
+        (
+            "real_bad_value.csv",
+            "N,Value\n0,1\n1,inf\n",
+            &[],
+            "line 3: found 'inf' in column Value, expected a finite number",
+        ),
+        (
+            "real_dup.csv",
+            "n,value\n5,1\n5.0,2\n",
+            &[],
+            "line 3: found n = 5 again (first on line 2), expected each n at most once",
+        ),
+        (
+            "real_header_only.csv",
+            "n,value\n",
+            &[],
+            "line 2: found no data rows after the header, expected at least one row of two numbers",
         ),
         (
             "header_only.csv",
@@ -118,9 +142,8 @@ fn malformed_sample_files_name_file_line_found_and_expected() {
         "time",
     ]);
     assert_eq!(out.status.code(), Some(3));
-    assert!(
-        stderr(&out).contains("line 1: --domain time expects header 'n,re,im', found 'k,re,im'")
-    );
+    assert!(stderr(&out)
+        .contains("line 1: --domain time expects header 'n,re,im' or 'n,value', found 'k,re,im'"));
 }
 
 #[test]
@@ -388,4 +411,83 @@ fn fc_with_a_time_sample_file_is_refused() {
     }
     // Without --fc the same file is read.
     ok(&run(&["recover", "-i", s(&csv), "-m", "esprit", "-q"]));
+}
+
+#[test]
+fn units_and_trends_are_checked_against_the_record() {
+    let dir = tmpdir("units");
+    let fourier = case("nl_fc08_s2p00_cx");
+    let real = write(&dir, "r.csv", "n,value\n10,1\n11,0.5\n12,-0.2\n13,0.1\n");
+    // A sample rate belongs to time samples, a domain length to Fourier data: exit 2, naming both.
+    let out = run(&["recover", "-i", s(&fourier), "--rate", "1000"]);
+    assert_exit(&out, 2, "rate with Fourier data");
+    assert!(
+        stderr(&out).contains("--rate 1000 applies to time samples")
+            && stderr(&out).contains("--length L"),
+        "{}",
+        stderr(&out)
+    );
+    let out = run(&["plot", "-i", s(&fourier), "--rate", "10", "-o", "x.svg"]);
+    assert_exit(&out, 2, "plot: rate with Fourier data");
+    let out = run(&[
+        "compare",
+        "-i",
+        s(&fourier),
+        "--rate",
+        "10",
+        "--methods",
+        "sdp",
+    ]);
+    assert_exit(&out, 2, "compare: rate with Fourier data");
+    let out = run(&["recover", "-i", s(&real), "--length", "2"]);
+    assert_exit(&out, 2, "length with time samples");
+    assert!(stderr(&out).contains("give their sample rate with --rate R"));
+    for bad in ["0", "-5", "inf", "nan"] {
+        let out = run(&["recover", "-i", s(&real), "--rate", bad]);
+        assert_exit(&out, 2, bad);
+        assert!(
+            stderr(&out).contains("must be positive and finite"),
+            "{bad}"
+        );
+    }
+    // Trends: the library's parser, any case; a degree above 8 or a polynomial taking more than
+    // half of the samples is refused.
+    let out = run(&["recover", "-i", s(&real), "--detrend", "cubic"]);
+    assert_exit(&out, 2, "unknown trend");
+    assert!(stderr(&out).contains("none, mean, linear or poly:D"));
+    let out = run(&["recover", "-i", s(&real), "--detrend", "poly:9"]);
+    assert_exit(&out, 2, "degree 9");
+    let out = run(&["recover", "-i", s(&real), "--detrend", "Poly:3"]);
+    assert_exit(&out, 2, "4 coefficients on 4 samples");
+    assert!(
+        stderr(&out).contains("--detrend poly:3 on"),
+        "{}",
+        stderr(&out)
+    );
+    // The Fourier length is accepted and reported.
+    let v: Value = serde_json::from_str(&ok(&run(&[
+        "recover",
+        "-i",
+        s(&fourier),
+        "--sigma",
+        "0",
+        "--length",
+        "4",
+    ])))
+    .unwrap();
+    assert!((v["resolution"].as_f64().unwrap() - 4.0 / 17.0).abs() < 1e-15);
+    for l in v["lines"].as_array().unwrap() {
+        let (p, x) = (
+            l["position"].as_f64().unwrap(),
+            l["location"].as_f64().unwrap(),
+        );
+        assert!((x - 4.0 * p).abs() < 1e-12);
+    }
+    // Help texts state the default trend and why.
+    let help = ok(&run(&["recover", "--help"]));
+    assert!(
+        help.contains("Default: mean for a real-valued record")
+            && help.contains("an offset is almost always present in measured real data"),
+        "{help}"
+    );
 }

@@ -19,7 +19,8 @@ fn check_svg(svg: &str) {
 #[test]
 fn plot_writes_an_svg_with_data_dual_spikes_and_caption() {
     let dir = tmpdir("plot");
-    // Invented under-resolved scene: 2 lines 0.8/fc apart at fc = 10, exact data.
+    // Invented scene: 2 lines 0.8/fc apart at fc = 10, exact data: 0.8·21/10 = 1.68 resolution cells
+    // 1/N (N = 21), resolved by the record but below the proven threshold 1.26/fc.
     let (csv, truth) = simulate(
         &dir,
         "p",
@@ -55,13 +56,14 @@ fn plot_writes_an_svg_with_data_dual_spikes_and_caption() {
         "recovered spikes",
         "dual polynomial |q(t)|",
         "|q| = 1",
-        "1/fc = 0.1000",
-        "closest pair 0.800/fc",
-        "UNDER-RESOLVED",
+        "resolution 1/N = 0.04762",
+        "position τ on [0, 1)",
+        "closest pair 1.68 resolution cells (1/N) = 0.8/fc apart",
         "Dual certificate",
     ] {
         assert!(svg.contains(needle), "missing '{needle}'");
     }
+    assert!(!svg.contains("UNDER-RESOLVED"));
     // Curves: the periodogram and |q| (plus axes); stems as circles: 2 true + 2 recovered in the top
     // panel, 2 on |q| below, and the legend markers.
     assert!(svg.matches("<polyline").count() > 10);
@@ -95,4 +97,70 @@ fn plot_writes_an_svg_with_data_dual_spikes_and_caption() {
     assert_eq!(out.status.code(), Some(2));
     let out = run(&["plot", "-i", s(&csv), "-o", "/nonexistent/dir/x.svg"]);
     assert_eq!(out.status.code(), Some(5));
+}
+
+#[test]
+fn plot_axis_is_in_the_records_unit() {
+    let dir = tmpdir("plotunit");
+    let rec = RealRecord {
+        first: 1000,
+        samples: 128,
+        rate: 1000.0,
+        cosines: vec![(123.4, 1.0, 0.0), (300.0, 0.5, 1.0)],
+        offset: 2.0,
+        slope: 0.0,
+        rho: 0.0,
+        innovation: 0.01,
+        missing: 0.0,
+        max_run: 1,
+        seed: 3,
+    };
+    let csv = write(&dir, "r.csv", &rec.csv());
+    let svg_path = dir.join("r.svg");
+    ok(&run(&[
+        "plot",
+        "-i",
+        s(&csv),
+        "--rate",
+        "1000",
+        "-o",
+        s(&svg_path),
+    ]));
+    let svg = std::fs::read_to_string(&svg_path).unwrap();
+    check_svg(&svg);
+    for needle in [
+        "frequency f (Hz)",
+        "resolution 1/N = 7.812 Hz",
+        "recovered lines",
+        "N = 128 time samples (n = 1000..1127)",
+    ] {
+        assert!(svg.contains(needle), "missing '{needle}'");
+    }
+    // A real record's axis is [0, R/2]: --range in Hz inside it, refused outside.
+    ok(&run(&[
+        "plot",
+        "-i",
+        s(&csv),
+        "--rate",
+        "1000",
+        "-o",
+        s(&svg_path),
+        "--range",
+        "100,150",
+    ]));
+    let svg = std::fs::read_to_string(&svg_path).unwrap();
+    assert!(svg.contains("View 100..150 of 0..500 Hz"), "view caption");
+    let out = run(&[
+        "plot",
+        "-i",
+        s(&csv),
+        "--rate",
+        "1000",
+        "-o",
+        s(&svg_path),
+        "--range",
+        "100,600",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains("0 <= FROM < TO <= 500 (Hz)"));
 }

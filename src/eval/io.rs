@@ -1,7 +1,10 @@
 //! Plain file formats: sample CSV in, spike JSON or CSV out.
 //!
-//! - Samples: CSV with header `k,re,im` (Fourier coefficients) or `n,re,im` (time samples), one row per
-//!   measured value.
+//! - Samples: CSV with header `k,re,im` (Fourier coefficients), `n,re,im` (complex time samples) or
+//!   `n,value` (a real-valued time record), one row per measured value. Headers are read without
+//!   regard to case (`N,Value`, `K,RE,IM`); an index may be written as an integer-valued float
+//!   (`12.0`, `1e3`, as spreadsheets export it) but not as a fraction (`12.5`). Time indices may
+//!   start anywhere (`1000`, or negative): the record spans the first to the last index.
 //! - Spikes: JSON `{"spikes": [{"position": 0.25, "amplitude": [re, im]}], …}`; an estimate adds
 //!   `method`, `status` and `diagnostics`. A CSV form `position,re,im` for spreadsheets.
 
@@ -15,8 +18,10 @@ use std::path::Path;
 /// The rows of a sample file, before a band is chosen.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SampleRows {
-    /// `Fourier` for a `k,re,im` file, `Time` for `n,re,im`.
+    /// `Fourier` for a `k,re,im` file, `Time` for `n,re,im` and `n,value`.
     pub domain: Domain,
+    /// True for a real-valued time record (`n,value`; the imaginary parts of `values` are 0).
+    pub real: bool,
     /// The first column (k or n), in file order.
     pub indices: Vec<i64>,
     /// The values, in file order.
@@ -30,13 +35,15 @@ pub struct SampleRows {
 impl SampleRows {
     /// Turn the rows into validated measurements.
     ///
-    /// Fourier files use the band `−fc..=fc`, with `fc` given or else the largest `|k|`; time files use
-    /// `n = 0..N−1` with `N` the largest `n` plus one (gaps allowed).
+    /// Fourier files use the band `−fc..=fc`, with `fc` given or else the largest `|k|`; time files
+    /// span their first to their last sample index `n` (any origin, gaps allowed:
+    /// [`Measurements::from_time_subset`]), and `n,value` files are real-valued records
+    /// ([`Measurements::from_real_subset`]).
     ///
     /// # Errors
     /// [`Error::Parse`] with the line for an index given twice (naming the line of its first
-    /// occurrence), a Fourier index outside the band `−fc..=fc` of a given `fc`, or a negative sample
-    /// time; any other validation error of [`Measurements`].
+    /// occurrence) or a Fourier index outside the band `−fc..=fc` of a given `fc`; any other
+    /// validation error of [`Measurements`].
     pub fn into_measurements(self, fc: Option<usize>) -> Result<Measurements> {
         let col = match self.domain {
             Domain::Fourier => "k",
@@ -67,12 +74,6 @@ impl SampleRows {
                         format!("found k = {k}, expected |k| <= fc = {f} (the band -{f}..{f})"),
                     ));
                 }
-                (Domain::Time, _) if k < 0 => {
-                    return Err(parse_err(
-                        row,
-                        format!("found n = {k}, expected a sample time n >= 0"),
-                    ));
-                }
                 _ => {}
             }
         }
@@ -89,6 +90,10 @@ impl SampleRows {
                 };
                 Measurements::fourier(fc, &self.indices, &self.values)
             }
+            Domain::Time if self.real => {
+                let x: Vec<f64> = self.values.iter().map(|v| v.re).collect();
+                Measurements::from_real_subset(&self.indices, &x)
+            }
             Domain::Time => Measurements::from_time_subset(&self.indices, &self.values),
         }
     }
@@ -99,7 +104,7 @@ impl SampleRows {
 /// # Errors
 /// [`Error::Parse`] with the line number for an empty file (line 1), a wrong header, a file without
 /// data rows (line 2), a wrong number of fields, a value that is not a finite number, or an index that
-/// is not an integer.
+/// is not an integer (integer-valued floats such as `12.0` or `1e3` are integers; `12.5` is not).
 pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
     let parse_err = |line: usize, message: String| Error::Parse {
         source_name: source_name.to_string(),
@@ -109,9 +114,7 @@ pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
     if text.trim().is_empty() {
         return Err(parse_err(
             1,
-            "found an empty file, expected the header 'k,re,im' (Fourier coefficients) or 'n,re,im' \
-             (time samples) and one row per sample"
-                .into(),
+            format!("found an empty file, expected the header {HEADERS} and one row per sample"),
         ));
     }
     let mut reader = csv::ReaderBuilder::new()
@@ -123,20 +126,21 @@ pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
         .headers()
         .map_err(|e| parse_err(1, format!("cannot read the header: {e}")))?
         .clone();
-    let names: Vec<&str> = header.iter().collect();
-    let domain = match names.as_slice() {
-        ["k", "re", "im"] => Domain::Fourier,
-        ["n", "re", "im"] => Domain::Time,
+    let names: Vec<String> = header.iter().map(str::to_string).collect();
+    let lower: Vec<String> = names.iter().map(|n| n.to_ascii_lowercase()).collect();
+    let lower: Vec<&str> = lower.iter().map(String::as_str).collect();
+    let (domain, real) = match lower.as_slice() {
+        ["k", "re", "im"] => (Domain::Fourier, false),
+        ["n", "re", "im"] => (Domain::Time, false),
+        ["n", "value"] => (Domain::Time, true),
         _ => {
             return Err(parse_err(
                 1,
-                format!(
-                    "found header '{}', expected 'k,re,im' (Fourier coefficients) or 'n,re,im' (time samples)",
-                    names.join(",")
-                ),
+                format!("found header '{}', expected {HEADERS}", names.join(",")),
             ))
         }
     };
+    let width = names.len();
     let mut indices = Vec::new();
     let mut values = Vec::new();
     let mut lines = Vec::new();
@@ -154,23 +158,28 @@ pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
         if record.len() == 1 && record.get(0) == Some("") {
             continue; // blank line
         }
-        if record.len() != 3 {
+        if record.len() != width {
             return Err(parse_err(
                 line,
                 format!(
-                    "found {} fields, expected 3 ({})",
+                    "found {} fields, expected {width} ({})",
                     record.len(),
                     names.join(",")
                 ),
             ));
         }
         let idx_text = &record[0];
-        let k: i64 = idx_text.parse().map_err(|_| {
+        let k = parse_index(idx_text).ok_or_else(|| {
             parse_err(
                 line,
                 format!(
-                    "found '{idx_text}' in column {}, expected an integer",
-                    names[0]
+                    "found '{idx_text}' in column {}, expected an integer {}",
+                    names[0],
+                    if real || domain == Domain::Time {
+                        "sample index"
+                    } else {
+                        "frequency index"
+                    }
                 ),
             )
         })?;
@@ -194,7 +203,7 @@ pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
             Ok(v)
         };
         let re = num(1)?;
-        let im = num(2)?;
+        let im = if real { 0.0 } else { num(2)? };
         indices.push(k);
         values.push(Complex64::new(re, im));
         lines.push(line);
@@ -202,17 +211,35 @@ pub fn parse_samples(text: &str, source_name: &str) -> Result<SampleRows> {
     if indices.is_empty() {
         return Err(parse_err(
             2,
-            "found no data rows after the header, expected at least one row of three numbers"
-                .into(),
+            format!(
+                "found no data rows after the header, expected at least one row of {} numbers",
+                if real { "two" } else { "three" }
+            ),
         ));
     }
     Ok(SampleRows {
         domain,
+        real,
         indices,
         values,
         lines,
         source_name: source_name.to_string(),
     })
+}
+
+/// The headers a sample file may have, for error messages.
+const HEADERS: &str = "'k,re,im' (Fourier coefficients), 'n,re,im' (complex time samples) or \
+                       'n,value' (a real-valued time record)";
+
+/// An index column's text as an integer: `12`, or an integer-valued float (`12.0`, `1e3`, `-4.0`)
+/// within `±2^53` (where every integer is a float); `None` for anything else (`12.5`, `abc`, `NaN`).
+fn parse_index(text: &str) -> Option<i64> {
+    if let Ok(k) = text.parse::<i64>() {
+        return Some(k);
+    }
+    const EXACT: f64 = 9_007_199_254_740_992.0; // 2^53
+    let x: f64 = text.parse().ok()?;
+    (x.is_finite() && x.fract() == 0.0 && x.abs() <= EXACT).then_some(x as i64)
 }
 
 /// One-based line numbers of byte offsets visited in increasing order, counted incrementally.
@@ -279,14 +306,30 @@ pub fn exact(x: f64) -> String {
     }
 }
 
-/// Write measurements as sample CSV (`k,re,im`, or `n,re,im` for time-domain data, by `n`), every
-/// value in full ([`exact`]).
+/// Write measurements as sample CSV (`k,re,im`, or `n,re,im` for time-domain data and `n,value` for
+/// a real-valued record, by `n` as the user numbered it), every value in full ([`exact`]); the values
+/// as given (before any trend was projected out).
 pub fn samples_to_csv(data: &Measurements) -> String {
     let mut out = String::new();
+    let values = data.raw_values();
+    if data.is_real() {
+        out.push_str("n,value\n");
+        let mut rows: Vec<(i64, f64)> = data
+            .indices()
+            .iter()
+            .map(|k| -k)
+            .zip(values.iter().map(|v| v.re))
+            .collect();
+        rows.sort_by_key(|r| r.0);
+        for (n, v) in rows {
+            out.push_str(&format!("{n},{}\n", exact(v)));
+        }
+        return out;
+    }
     match data.domain() {
         Domain::Fourier => {
             out.push_str("k,re,im\n");
-            for (k, v) in data.indices().iter().zip(data.values()) {
+            for (k, v) in data.indices().iter().zip(values) {
                 out.push_str(&format!("{k},{},{}\n", exact(v.re), exact(v.im)));
             }
         }
@@ -296,7 +339,7 @@ pub fn samples_to_csv(data: &Measurements) -> String {
                 .indices()
                 .iter()
                 .map(|k| -k)
-                .zip(data.values().iter().copied())
+                .zip(values.iter().copied())
                 .collect();
             rows.sort_by_key(|r| r.0);
             for (n, v) in rows {
@@ -426,11 +469,44 @@ mod tests {
             "{e}"
         );
         let rows = parse_samples("n,re,im\n0,1,0\n-1,0,0\n", "x.csv").unwrap();
+        let m = rows.into_measurements(None).unwrap();
+        assert_eq!(m.user_span(), (-1, 0));
+    }
+
+    #[test]
+    fn real_records_mixed_case_headers_and_float_indices() {
+        let rows = parse_samples("N,Value\n1000,2.5\n1001.0,-1\n1e3,7\n", "r.csv").unwrap();
+        assert!(rows.real);
+        assert_eq!(rows.indices, vec![1000, 1001, 1000]);
         let e = rows.into_measurements(None).unwrap_err();
         assert!(
-            e.to_string().starts_with("x.csv, line 3: found n = -1"),
+            e.to_string().contains("line 4: found n = 1000 again"),
             "{e}"
         );
+        let rows = parse_samples("n,value\n1000,2.5\n1002,-1\n", "r.csv").unwrap();
+        let m = rows.into_measurements(None).unwrap();
+        assert!(m.is_real());
+        assert_eq!((m.user_span(), m.band_len(), m.len()), ((1000, 1002), 3, 2));
+        assert_eq!(samples_to_csv(&m), "n,value\n1000,2.5\n1002,-1\n");
+        let k = parse_samples("K,RE,IM\n-1,1,0\n1,1,0\n", "k.csv").unwrap();
+        assert_eq!((k.domain, k.real), (Domain::Fourier, false));
+        let e = parse_samples("n,value\n0,1\n12.5,2\n", "r.csv").unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "r.csv, line 3: found '12.5' in column n, expected an integer sample index"
+        );
+        let e = parse_samples("n,value\n0,1,2\n", "r.csv").unwrap_err();
+        assert!(
+            e.to_string().contains("line 2: found 3 fields, expected 2"),
+            "{e}"
+        );
+        let e = parse_samples("n,value\n", "r.csv").unwrap_err();
+        assert!(e.to_string().contains("row of two numbers"), "{e}");
+        let e = parse_samples("n,val\n0,1\n", "r.csv").unwrap_err();
+        assert!(e.to_string().contains("'n,value'"), "{e}");
+        assert_eq!(parse_index("-4.0"), Some(-4));
+        assert_eq!(parse_index("1e300"), None);
+        assert_eq!(parse_index("NaN"), None);
     }
 
     #[test]

@@ -147,3 +147,112 @@ pub fn assert_plain_numbers(text: &str) {
         );
     }
 }
+
+/// An invented real-valued record, drawn here independently of the library's scene generator (so
+/// that the tests' truth does not come from the code under test):
+/// `x_n = offset + slope·(n − first) + Σ A cos(2π f n / R + φ) + e_n`, with `e_n` stationary AR(1)
+/// red noise of coefficient `rho` and innovation std `innovation`, and about `missing` of the
+/// samples removed in runs of 1 to `max_run` (first and last kept). Seeded (SplitMix64 with
+/// Box–Muller normals).
+pub struct RealRecord {
+    pub first: i64,
+    pub samples: usize,
+    pub rate: f64,
+    /// (frequency in Hz, amplitude, phase in radians at n = 0).
+    pub cosines: Vec<(f64, f64, f64)>,
+    pub offset: f64,
+    pub slope: f64,
+    pub rho: f64,
+    pub innovation: f64,
+    pub missing: f64,
+    pub max_run: usize,
+    pub seed: u64,
+}
+
+/// SplitMix64 (Steele, Lea & Flood 2014): a small, well-mixed seeded generator.
+struct SplitMix(u64);
+
+impl SplitMix {
+    fn next(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+    /// Uniform on (0, 1).
+    fn uniform(&mut self) -> f64 {
+        ((self.next() >> 11) as f64 + 0.5) / (1u64 << 53) as f64
+    }
+    /// Standard normal (Box–Muller).
+    fn normal(&mut self) -> f64 {
+        let (u, v) = (self.uniform(), self.uniform());
+        (-2.0 * u.ln()).sqrt() * (2.0 * std::f64::consts::PI * v).cos()
+    }
+}
+
+impl RealRecord {
+    /// The record's rows `(n, x_n)` of the kept samples, in increasing n.
+    pub fn rows(&self) -> Vec<(i64, f64)> {
+        let mut rng = SplitMix(self.seed);
+        let n = self.samples;
+        let mut e = self.innovation / (1.0 - self.rho * self.rho).sqrt() * rng.normal();
+        let mut rows = Vec::with_capacity(n);
+        for i in 0..n {
+            if i > 0 {
+                e = self.rho * e + self.innovation * rng.normal();
+            }
+            let t = self.first + i as i64;
+            let mut x = self.offset + self.slope * i as f64 + e;
+            for &(f, a, p) in &self.cosines {
+                x += a * (2.0 * std::f64::consts::PI * f / self.rate * t as f64 + p).cos();
+            }
+            rows.push((t, x));
+        }
+        let mut keep = vec![true; n];
+        let target = (self.missing * n as f64).round() as usize;
+        let mut gone = 0;
+        while gone < target {
+            let start = 1 + (rng.next() % (n as u64 - 2)) as usize;
+            let len = 1 + (rng.next() % self.max_run as u64) as usize;
+            for k in keep.iter_mut().take((start + len).min(n - 1)).skip(start) {
+                if *k && gone < target {
+                    *k = false;
+                    gone += 1;
+                }
+            }
+        }
+        rows.into_iter()
+            .zip(keep)
+            .filter_map(|(r, k)| k.then_some(r))
+            .collect()
+    }
+
+    /// The record as an `n,value` file.
+    pub fn csv(&self) -> String {
+        let mut out = String::from("n,value\n");
+        for (n, x) in self.rows() {
+            out.push_str(&format!("{n},{x:?}\n"));
+        }
+        out
+    }
+
+    /// The acceptance scene of issue 12 (invented): 512 samples at 1000 Hz from n = 1000, offset 2
+    /// and a linear trend, AR(1) noise ρ = 0.9 with innovation std 0.05, about 3 % missing in runs of
+    /// up to 5, lines 123.4 Hz / 1.0, 150.0 Hz / 0.6, 371.1 Hz / 0.3.
+    pub fn acceptance(seed: u64) -> Self {
+        RealRecord {
+            first: 1000,
+            samples: 512,
+            rate: 1000.0,
+            cosines: vec![(123.4, 1.0, 0.4), (150.0, 0.6, -1.2), (371.1, 0.3, 2.5)],
+            offset: 2.0,
+            slope: 1e-3,
+            rho: 0.9,
+            innovation: 0.05,
+            missing: 0.03,
+            max_run: 5,
+            seed,
+        }
+    }
+}
