@@ -50,7 +50,7 @@ pub struct PlotArgs {
     /// Width of the figure in pixels.
     #[arg(long, default_value_t = 1100)]
     width: u32,
-    /// Where to write the SVG.
+    /// Where to write the SVG (the name must end in `.svg`).
     #[arg(long, short)]
     out: PathBuf,
 }
@@ -228,6 +228,18 @@ fn draw_err<E: std::fmt::Display>(e: E) -> Failure {
 }
 
 pub fn run(a: PlotArgs) -> Result<(), Failure> {
+    // The figure is SVG: a file named `.png` holding SVG would mislead every viewer that trusts the
+    // extension.
+    let svg_name = a
+        .out
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("svg"));
+    if !svg_name {
+        return Err(Failure::Usage(format!(
+            "--out {}: the plot is an SVG drawing; name the file with the extension .svg",
+            shown(&a.out)
+        )));
+    }
     let noise = requested_noise(a.method.sigma)?;
     let data = a.samples.load()?;
     let truth: Option<SpikeFile> = match &a.truth {

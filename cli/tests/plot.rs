@@ -97,6 +97,11 @@ fn plot_writes_an_svg_with_data_dual_spikes_and_caption() {
     assert_eq!(out.status.code(), Some(2));
     let out = run(&["plot", "-i", s(&csv), "-o", "/nonexistent/dir/x.svg"]);
     assert_eq!(out.status.code(), Some(5));
+    // The drawing is SVG: another extension is refused before anything is computed or written.
+    let png = dir.join("x.png");
+    let out = run(&["plot", "-i", s(&csv), "-o", s(&png)]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(stderr(&out).contains(".svg") && !png.exists());
 }
 
 #[test]
