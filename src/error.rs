@@ -45,6 +45,16 @@ pub enum Error {
         /// What to do about it.
         advice: &'static str,
     },
+    /// A time record whose samples all share one index: it spans no time, so it holds no frequency
+    /// information.
+    #[error(
+        "the record holds samples at the single index n = {index}: at least two samples at \
+         different indices are needed"
+    )]
+    SingleSample {
+        /// The one sample index, as the user numbered it.
+        index: i64,
+    },
     /// The cutoff frequency was zero (no resolution at all).
     #[error("the cutoff frequency fc is 0: at least fc = 1 (three coefficients) is needed")]
     ZeroCutoff,

@@ -49,7 +49,7 @@ fn dvector_inputs_keep_the_typed_errors() {
     ));
     assert!(matches!(
         time_samples_from_dvector(&DVector::from_element(1, c(1.0, 0.0))),
-        Err(Error::ZeroCutoff)
+        Err(Error::SingleSample { index: 0 })
     ));
     assert!(matches!(
         time_samples_from_dvector(&DVector::from_vec(vec![])),

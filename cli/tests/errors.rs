@@ -491,3 +491,18 @@ fn units_and_trends_are_checked_against_the_record() {
         "{help}"
     );
 }
+
+/// A record of one sample spans no time: refused in the user's numbering (exit 3), not as a
+/// "cutoff fc = 0".
+#[test]
+fn a_single_sample_record_is_refused_in_the_users_terms() {
+    let dir = tmpdir("single");
+    let p = write(&dir, "one.csv", "N,Value\n5,1.0\n");
+    let out = run(&["recover", "-i", s(&p)]);
+    assert_eq!(out.status.code(), Some(3));
+    assert!(
+        stderr(&out).contains("the record holds samples at the single index n = 5"),
+        "{}",
+        stderr(&out)
+    );
+}

@@ -314,7 +314,7 @@ impl Measurements {
     /// sample.
     ///
     /// # Errors
-    /// [`Error::Empty`] for no samples, [`Error::ZeroCutoff`] for a single sample,
+    /// [`Error::Empty`] for no samples, [`Error::SingleSample`] for a single sample,
     /// [`Error::NonFinite`] for NaN or infinite values.
     pub fn from_time_samples(samples: &[Complex64]) -> Result<Self> {
         let n = samples.len();
@@ -324,7 +324,7 @@ impl Measurements {
             });
         }
         if n == 1 {
-            return Err(Error::ZeroCutoff);
+            return Err(Error::SingleSample { index: 0 });
         }
         let idx: Vec<i64> = (0..n as i64).map(|i| -i).collect();
         Self::in_band(-(n as i64 - 1), 0, &idx, samples, Domain::Time)
@@ -338,7 +338,7 @@ impl Measurements {
     ///
     /// # Errors
     /// As [`Measurements::from_time_samples`], plus [`Error::DuplicateIndex`],
-    /// [`Error::LengthMismatch`], [`Error::ZeroCutoff`] when all samples share one index, and
+    /// [`Error::LengthMismatch`], [`Error::SingleSample`] when all samples share one index, and
     /// [`Error::IndexOutOfBand`] for indices beyond `±2^62`.
     pub fn from_time_subset(times: &[i64], samples: &[Complex64]) -> Result<Self> {
         if times.is_empty() {
@@ -359,7 +359,7 @@ impl Measurements {
         let tmin = times.iter().copied().min().unwrap_or(0);
         let tmax = times.iter().copied().max().unwrap_or(0);
         if tmax <= tmin {
-            return Err(Error::ZeroCutoff);
+            return Err(Error::SingleSample { index: tmin });
         }
         let idx: Vec<i64> = times.iter().map(|&t| -t).collect();
         Self::in_band(-tmax, -tmin, &idx, samples, Domain::Time)
