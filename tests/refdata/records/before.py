@@ -3,9 +3,19 @@
 
     python3 tests/refdata/records/before.py run   [OUTDIR]   # needs target/release/finespike
     python3 tests/refdata/records/before.py table [OUTDIR]   # Markdown table on stdout
+    python3 tests/refdata/records/before.py after [OUTDIR]         # the tool after issue 12
+    python3 tests/refdata/records/before.py table-after [OUTDIR]   # its table (AFTER.md)
 
-Used for BEFORE.md (the tool as of the commit named there) and meant to be run again for the
-"after" table.  Raw outputs go to OUTDIR (default /tmp/refruns), never into git.
+Used for BEFORE.md (the tool as of the commit named there) and, with `after`/`table-after`, for
+AFTER.md.  Raw outputs go to OUTDIR (default /tmp/refruns, /tmp/refruns_after for the `after`
+modes), never into git.
+
+`after` runs the tool that reads `n,value` itself on the original NAME.csv (no copies), with
+`--rate R` when the reference fit has a rate other than 1 (`visible` 1000, `close_pair` 250) and
+`--detrend` matching the reference fit's polynomial degree (0: mean, 1: linear, D: poly:D); same
+methods, same two settings, same timeout, times and load as `run`.  `table-after` scores the tool's
+`lines` (each cosine once at f in [0, 1/2] with its phasor amplitude): no folding or grouping, the
+same one-bin matching and extra-line counting as below.
 
 The tool of that commit reads `n,re,im`, so each record is copied to OUTDIR with im = 0; indices
 are kept as written unless the tool refuses them (exit 3 naming an index), then shifted to start
