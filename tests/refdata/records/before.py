@@ -242,7 +242,7 @@ def table_after(outdir):
         span = ref["span"]
         stem = os.path.join(outdir, "%s.%s.%s" % (r["record"], r["method"], r["setting"]))
         sigma = "default" if r["setting"] == "default" else "%.4g" % r["sigma"]
-        cells = [""] * 9
+        cells = [""] * 8
         status = ""
         if r["rc"] == 124:
             status = "timeout (%d s)" % TIMEOUT
