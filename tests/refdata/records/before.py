@@ -3,9 +3,19 @@
 
     python3 tests/refdata/records/before.py run   [OUTDIR]   # needs target/release/finespike
     python3 tests/refdata/records/before.py table [OUTDIR]   # Markdown table on stdout
+    python3 tests/refdata/records/before.py after [OUTDIR]         # the tool after issue 12
+    python3 tests/refdata/records/before.py table-after [OUTDIR]   # its table (AFTER.md)
 
-Used for BEFORE.md (the tool as of the commit named there) and meant to be run again for the
-"after" table.  Raw outputs go to OUTDIR (default /tmp/refruns), never into git.
+Used for BEFORE.md (the tool as of the commit named there) and, with `after`/`table-after`, for
+AFTER.md.  Raw outputs go to OUTDIR (default /tmp/refruns, /tmp/refruns_after for the `after`
+modes), never into git.
+
+`after` runs the tool that reads `n,value` itself on the original NAME.csv (no copies), with
+`--rate R` when the reference fit has a rate other than 1 (`visible` 1000, `close_pair` 250) and
+`--detrend` matching the reference fit's polynomial degree (0: mean, 1: linear, D: poly:D); same
+methods, same two settings, same timeout, times and load as `run`.  `table-after` scores the tool's
+`lines` (each cosine once at f in [0, 1/2] with its phasor amplitude): no folding or grouping, the
+same one-bin matching and extra-line counting as below.
 
 The tool of that commit reads `n,re,im`, so each record is copied to OUTDIR with im = 0; indices
 are kept as written unless the tool refuses them (exit 3 naming an index), then shifted to start
@@ -61,8 +71,8 @@ def write_copy(outdir, name, shift):
     return path
 
 
-def run_one(path, method, sigma, stem):
-    cmd = ["timeout", str(TIMEOUT), BIN, "recover", "--input", path, "--method", method]
+def run_one(path, method, sigma, stem, extra=()):
+    cmd = ["timeout", str(TIMEOUT), BIN, "recover", "--input", path, "--method", method] + list(extra)
     if sigma is not None:
         cmd += ["--sigma", repr(sigma)]
     load = float(open("/proc/loadavg").read().split()[0])
@@ -109,6 +119,51 @@ def run(outdir):
                       % (name, method, setting, rc, secs, cpu, load), flush=True)
 
 
+DETREND = {0: "mean", 1: "linear"}  # other degrees D: "poly:D"
+
+
+def after_options(ref):
+    """The tool's options for a record: --rate when the reference has one other than 1, --detrend
+    matching the reference fit's polynomial degree, JSON output."""
+    opts = []
+    if ref["rate"] is not None and ref["rate"] != 1:
+        opts += ["--rate", repr(float(ref["rate"]))]
+    deg = ref["poly_degree"]
+    opts += ["--detrend", DETREND.get(deg, "poly:%d" % deg), "--format", "json"]
+    return opts
+
+
+def run_after(outdir):
+    """The tool after issue 12: the original NAME.csv (header n,value) read directly, no copies."""
+    os.makedirs(outdir, exist_ok=True)
+    log = os.path.join(outdir, "runs.jsonl")
+    done = set()
+    if os.path.exists(log):
+        for line in open(log):
+            r = json.loads(line)
+            done.add((r["record"], r["method"], r["setting"]))
+    commit = subprocess.run(["git", "-C", ROOT, "log", "-1", "--format=%h", "--", ".",
+                             ":(exclude)tests/refdata/records"], capture_output=True, text=True).stdout.strip()
+    for name in RECORDS:
+        ref = json.load(open(os.path.join(HERE, name + ".ref.json")))
+        path = os.path.join(HERE, name + ".csv")
+        for setting in ("default", "sigma"):
+            for method in METHODS:
+                if (name, method, setting) in done:
+                    continue
+                sigma = ref["residual_std"] if setting == "sigma" else None
+                stem = os.path.join(outdir, "%s.%s.%s" % (name, method, setting))
+                rc, secs, cmd, cpu, load = run_one(path, method, sigma, stem, after_options(ref))
+                rec = {"record": name, "method": method, "setting": setting, "sigma": sigma,
+                       "shifted": False, "rc": rc, "seconds": secs, "cpu_seconds": cpu,
+                       "load_before": load, "commit": commit,
+                       "cmd": " ".join(cmd[2:])}
+                with open(log, "a") as f:
+                    f.write(json.dumps(rec) + "\n")
+                print("%-10s %-6s %-7s rc=%d %7.2fs wall %7.2fs cpu load %.1f"
+                      % (name, method, setting, rc, secs, cpu, load), flush=True)
+
+
 def fold(spikes, span):
     items = []
     for s in spikes:
@@ -134,6 +189,118 @@ def fold(spikes, span):
 
 def fmt(v):
     return "%.3g" % v if v != 0 else "0"
+
+
+def warning_tags(warnings):
+    """Each warning by its tag (an upper-case head before the colon), else its words before the
+    colon when they are few, else its first seven words."""
+    tags = []
+    for w in warnings:
+        head = w.split(":")[0]
+        if head.isupper() or len(head.split()) <= 8:
+            tags.append(head)
+        else:
+            tags.append(" ".join(w.split()[:7]) + "…")
+    return "; ".join(tags).replace("|", "\\|")
+
+
+def refused(stem):
+    err = open(stem + ".err").read().strip().splitlines()
+    msg = [l for l in err if l.startswith("error")]
+    status = "refused: " + (msg[0][7:] if msg else (err[-1] if err else "?"))
+    status = status.replace("|", "\\|")
+    return status[:157] + "…" if len(status) > 160 else status
+
+
+def match(ref, lines, span):
+    """One-to-one matching of lines (f in cycles/sample) to the reference lines within one bin."""
+    ref_f = [ln["frequency_cps"] for ln in ref["lines"]]
+    matched = {}
+    if lines:
+        cost = np.abs(np.subtract.outer(ref_f, [ln["f"] for ln in lines]))
+        # pairs further apart than a bin cost the same large amount, so the assignment never
+        # shifts a chain of good matches to save on one bad one
+        ri, li = linear_sum_assignment(np.where(cost <= 1.0 / span, cost, 1e6))
+        matched = {i: j for i, j in zip(ri, li) if cost[i, j] <= 1.0 / span}
+    return matched
+
+
+def table_after(outdir):
+    """The table of `after` runs, scored from the tool's `lines` (each cosine once, f in [0, 1/2],
+    the phasor amplitude): no folding and no grouping, the same one-bin matching and the same
+    counting of extra lines below and above 2 bins as `table`."""
+    rows = [json.loads(l) for l in open(os.path.join(outdir, "runs.jsonl"))]
+    print("| method | record | σ | wall / CPU time (s) (load average before) | solve_seconds | exit | status |"
+          " spikes → lines | extra lines below 2 bins | extra lines above (largest \\|A\\| at f) |"
+          " frequency error per reference line | \\|A\\| / A_ref | strongest line above 2 bins: \\|A\\| at f |"
+          " warnings |")
+    print("|---|---|---|---:|---:|---:|---|---|---:|---|---|---|---|---|")
+    for r in sorted(rows, key=lambda r: (RECORDS.index(r["record"]), METHODS.index(r["method"]),
+                                         r["setting"])):
+        ref = json.load(open(os.path.join(HERE, r["record"] + ".ref.json")))
+        rate = ref["rate"] or 1.0
+        span = ref["span"]
+        stem = os.path.join(outdir, "%s.%s.%s" % (r["record"], r["method"], r["setting"]))
+        sigma = "default" if r["setting"] == "default" else "%.4g" % r["sigma"]
+        cells = [""] * 8
+        status = ""
+        if r["rc"] == 124:
+            status = "timeout (%d s)" % TIMEOUT
+        else:
+            try:
+                out = json.load(open(stem + ".json"))
+            except (json.JSONDecodeError, FileNotFoundError):
+                out = None
+            if out is None:
+                status = refused(stem)
+            else:
+                status = out.get("status", "?")
+                if isinstance(status, dict):
+                    status = json.dumps(status)
+                diag = out.get("diagnostics", {})
+                if r["setting"] == "default" and diag.get("sigma") is not None:
+                    sigma = "default (%s %.4g)" % ("est." if diag.get("sigma_estimated") else "",
+                                                    diag["sigma"])
+                lines = []
+                for ln in out.get("lines", []):
+                    f = ln["position"]
+                    if not 0.0 <= f <= 0.5:
+                        raise SystemExit("%s: line position %r outside [0, 1/2]" % (stem, f))
+                    if abs(ln["frequency"] - f * rate) > 1e-9 * max(1.0, abs(ln["frequency"])):
+                        raise SystemExit("%s: frequency %r is not position x rate" % (stem, ln["frequency"]))
+                    lines.append({"f": f, "amp": ln["abs_amplitude"]})
+                matched = match(ref, lines, span)
+                e, a = [], []
+                for i, rl in enumerate(ref["lines"]):
+                    if i in matched:
+                        ln = lines[matched[i]]
+                        e.append("%+.3g" % ((ln["f"] - rl["frequency_cps"]) * rate))
+                        a.append("%.2f" % (ln["amp"] / rl["amplitude"]))
+                    else:
+                        e.append("missed")
+                        a.append("–")
+                ex = [ln for j, ln in enumerate(lines) if j not in matched.values()]
+                near = [ln for ln in ex if ln["f"] < 2.0 / span]
+                far = [ln for ln in ex if ln["f"] >= 2.0 / span]
+                extra = "%d" % len(far)
+                if far:
+                    big = max(far, key=lambda ln: ln["amp"])
+                    extra += " (%s at %s)" % (fmt(big["amp"]), fmt(big["f"] * rate))
+                above = [ln for ln in lines if ln["f"] >= 2.0 / span]
+                top = ""
+                if above:
+                    big = max(above, key=lambda ln: ln["amp"])
+                    top = "%s at %s" % (fmt(big["amp"]), fmt(big["f"] * rate))
+                solve = diag.get("solve_seconds")
+                cells = ["%.2f" % solve if solve is not None else "",
+                         "%d → %d" % (len(out.get("spikes", [])), len(lines)), "%d" % len(near),
+                         extra, ", ".join(e), ", ".join(a), top,
+                         warning_tags(diag.get("warnings", []))]
+        secs = "%.2f / %.2f (load %.1f)" % (r["seconds"], r["cpu_seconds"], r["load_before"])
+        solve = cells[0]
+        print("| %s | %s | %s | %s | %s | %d | %s | %s |"
+              % (r["method"], r["record"], sigma, secs, solve, r["rc"], status,
+                 " | ".join(cells[1:])))
 
 
 def table(outdir):
@@ -227,7 +394,8 @@ def table(outdir):
 
 
 if __name__ == "__main__":
-    outdir = sys.argv[2] if len(sys.argv) > 2 else "/tmp/refruns"
-    if len(sys.argv) < 2 or sys.argv[1] not in ("run", "table"):
+    default_dir = "/tmp/refruns_after" if sys.argv[1:2] in (["after"], ["table-after"]) else "/tmp/refruns"
+    outdir = sys.argv[2] if len(sys.argv) > 2 else default_dir
+    if len(sys.argv) < 2 or sys.argv[1] not in ("run", "table", "after", "table-after"):
         sys.exit(__doc__)
-    run(outdir) if sys.argv[1] == "run" else table(outdir)
+    {"run": run, "table": table, "after": run_after, "table-after": table_after}[sys.argv[1]](outdir)
