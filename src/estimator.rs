@@ -169,6 +169,8 @@ pub enum Warning {
         cells: f64,
         /// Its amplitude modulus.
         amplitude: f64,
+        /// Whether the record already has a trend fitted with the lines.
+        trend_fitted: bool,
     },
     /// Two lines much closer than the record's resolution with nearly opposite phases and amplitudes
     /// far above their sum: a fitting artifact, not two physical lines (see [`crate::lines`]).
@@ -269,11 +271,24 @@ impl fmt::Display for Warning {
                 frequency,
                 cells,
                 amplitude,
+                trend_fitted: false,
             } => write!(
                 f,
                 "a line at frequency {frequency:.4e} (amplitude {amplitude:.4}) lies {cells:.2} \
                  resolution cells from zero frequency: most likely an offset or trend in the \
                  record, not a periodic component; fit a trend (offset or linear) or disregard it"
+            ),
+            Warning::NearZeroFrequency {
+                frequency,
+                cells,
+                amplitude,
+                trend_fitted: true,
+            } => write!(
+                f,
+                "a line at frequency {frequency:.4e} (amplitude {amplitude:.4}) lies {cells:.2} \
+                 resolution cells from zero frequency, next to the fitted trend: a record this \
+                 long cannot tell it from a slow drift, wander or red noise; do not read it as a \
+                 periodic component without other evidence"
             ),
             Warning::CancellingPair {
                 positions,

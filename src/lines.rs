@@ -209,6 +209,7 @@ pub(crate) fn cautions(data: &Measurements, lines: &[Line]) -> Vec<Warning> {
                     frequency: l.frequency.unwrap_or(f),
                     cells: f * n,
                     amplitude: l.amplitude.norm(),
+                    trend_fitted: data.trend_basis().is_some(),
                 });
             }
         }

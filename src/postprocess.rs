@@ -28,17 +28,7 @@ use crate::model::{wrap, wrap_difference, Measurements, Spikes};
 /// of its atom that the polynomial cannot fit (a line within a resolution cell of zero frequency is
 /// mostly trend, and its least-squares amplitude says nothing about its significance).
 fn strength(data: &Measurements, spike: &crate::model::Spike) -> f64 {
-    let Some(basis) = data.trend_basis() else {
-        return spike.amplitude.norm();
-    };
-    let mut atom: Vec<num_complex::Complex64> = data
-        .indices()
-        .iter()
-        .map(|&k| crate::model::atom(k, spike.position))
-        .collect();
-    basis.project(&mut atom);
-    let visible = atom.iter().map(|z| z.norm_sqr()).sum::<f64>() / data.len() as f64;
-    spike.amplitude.norm() * visible.sqrt()
+    spike.amplitude.norm() * lstsq::trend_visibility(data, spike.position)
 }
 
 /// `positions` without the `j`-th; for a real record also without its mirror image (the line is the

@@ -6,7 +6,8 @@
 //! support points are close and `Φ` is ill-conditioned.
 //!
 //! Records with a trend are fitted jointly with it: `Φ` and `y` are projected onto the orthogonal
-//! complement of the polynomials (variable projection; see [`crate::Trend`]). For a real-valued
+//! complement of the polynomials (variable projection; see [`crate::Trend`]), and [`fit`] leaves out
+//! positions whose atom the polynomial fits almost entirely ([`MIN_TREND_VISIBILITY`]). For a real-valued
 //! record, [`fit`] fits conjugate-symmetric pairs: every position `τ` stands for the line at
 //! `f = min(τ, 1 − τ)`, positions whose lines lie closer than [`MIRROR_MERGE_FC`]`/fc` are one
 //! line, and each line is fitted as the pair `±f` (a single atom at `f = 0` or `1/2`). The
@@ -76,13 +77,15 @@ pub fn least_squares(data: &Measurements, positions: &[f64]) -> Result<Vec<Compl
 /// # Errors
 /// As [`least_squares`].
 pub fn fit(data: &Measurements, positions: &[f64]) -> Result<Spikes> {
-    let symmetric;
-    let positions = if data.is_real() {
-        symmetric = mirror_support(positions, MIRROR_MERGE_FC / data.fc());
-        &symmetric[..]
+    let mut support = if data.is_real() {
+        mirror_support(positions, MIRROR_MERGE_FC / data.fc())
     } else {
-        positions
+        positions.to_vec()
     };
+    if data.trend_basis().is_some() {
+        support.retain(|&p| trend_visibility(data, p) >= MIN_TREND_VISIBILITY);
+    }
+    let positions = &support[..];
     let mut amps = least_squares(data, positions)?;
     if data.is_real() {
         impose_conjugate_symmetry(positions, &mut amps);
@@ -95,6 +98,21 @@ pub fn fit(data: &Measurements, positions: &[f64]) -> Result<Spikes> {
             .collect(),
     )
 }
+
+/// The part of the atom at `position` that a record's trend cannot fit, `‖P⊥φ(τ)‖/‖φ(τ)‖` (1 without
+/// a trend; near 0 for a line within a small fraction of a resolution cell of zero frequency).
+pub(crate) fn trend_visibility(data: &Measurements, position: f64) -> f64 {
+    let Some(basis) = data.trend_basis() else {
+        return 1.0;
+    };
+    let mut a: Vec<Complex64> = data.indices().iter().map(|&k| atom(k, position)).collect();
+    basis.project(&mut a);
+    (a.iter().map(|z| z.norm_sqr()).sum::<f64>() / data.len() as f64).sqrt()
+}
+
+/// Positions whose atom the trend fits almost entirely ([`trend_visibility`] below this) carry no
+/// identifiable line: the least squares leaves them out (their amplitude would be the trend's).
+pub const MIN_TREND_VISIBILITY: f64 = 1e-3;
 
 /// Lines of a real record whose folded frequencies lie closer than this many Rayleigh lengths are
 /// one line (the default merge distance of the shared post-processing).
