@@ -397,6 +397,8 @@ pub struct Diagnostics {
     pub sigma: Option<f64>,
     /// Whether `sigma` was estimated from the data (true) or given (false).
     pub sigma_estimated: bool,
+    /// How `sigma` was estimated, when it was (see [`crate::estimate_sigma`]).
+    pub sigma_method: Option<crate::SigmaMethod>,
     /// The dual certificate, for methods that produce one.
     pub certificate: Option<Certificate>,
     /// Plain-language cautions.
@@ -544,6 +546,7 @@ impl Diagnostics {
             data_norm: data.norm(),
             sigma: None,
             sigma_estimated: false,
+            sigma_method: None,
             certificate: None,
             warnings,
             model_order: None,

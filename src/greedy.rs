@@ -378,10 +378,11 @@ impl Greedy {
             });
         }
         // With a requested count and no noise level, the count alone stops the fit.
-        let (sigma, estimated) = match (self.count, self.noise) {
-            (Some(_), NoiseLevel::Estimate) => (None, false),
+        let (sigma, sigma_method) = match (self.count, self.noise) {
+            (Some(_), NoiseLevel::Estimate) => (None, None),
             (_, noise) => resolve_sigma(data, noise)?,
         };
+        let estimated = sigma_method.is_some();
         let model = Model::new(data, settings.grid_oversample.max(8))?;
         let m = model.len() as f64;
         // Stopping level of ‖r‖ in normalised units.
@@ -526,6 +527,7 @@ impl Greedy {
             .status(status)
             .iterations(iterations)
             .noise(sigma, estimated);
+        diagnostics.sigma_method = sigma_method;
         diagnostics.solve_seconds = start.elapsed().as_secs_f64();
         Ok(GreedyFit {
             estimate: Estimate {

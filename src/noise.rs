@@ -185,6 +185,31 @@ pub enum SigmaMethod {
     },
 }
 
+impl std::fmt::Display for SigmaMethod {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            SigmaMethod::HankelSubspace { run_length, .. } => write!(
+                f,
+                "noise subspace of a Hankel matrix of {run_length} contiguous samples (white noise)"
+            ),
+            SigmaMethod::GappedHankel { windows, .. } => write!(
+                f,
+                "noise subspace of a Hankel matrix of {windows} fully measured windows (record with \
+                 gaps)"
+            ),
+            SigmaMethod::NoiseFloor {
+                lines_removed,
+                white_sigma,
+                ..
+            } => write!(
+                f,
+                "whole-band level of the noise spectrum with {lines_removed} lines set aside, because \
+                 the noise floor is not flat (the sample-to-sample level is {white_sigma:.4})"
+            ),
+        }
+    }
+}
+
 /// How the noise floor varies across the band: the whiteness figure of [`SigmaEstimate`] (module docs,
 /// "Coloured noise"; the rule is in `kernels/spectrum.rs`).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -642,7 +667,7 @@ pub fn residual_sigma(data: &Measurements, spikes: &Spikes) -> Option<f64> {
 pub(crate) fn resolve_noise(
     data: &Measurements,
     noise: crate::estimator::NoiseLevel,
-) -> Result<(Option<f64>, bool)> {
+) -> Result<(Option<f64>, Option<SigmaMethod>)> {
     resolve_noise_with(data, noise, None)
 }
 
@@ -653,11 +678,11 @@ pub(crate) fn resolve_noise_with(
     data: &Measurements,
     noise: crate::estimator::NoiseLevel,
     shared: Option<&mut HankelAnalysis>,
-) -> Result<(Option<f64>, bool)> {
+) -> Result<(Option<f64>, Option<SigmaMethod>)> {
     use crate::estimator::NoiseLevel;
     match noise.validated()? {
-        NoiseLevel::Exact => Ok((None, false)),
-        NoiseLevel::Known(s) => Ok(((s > 0.0).then_some(s), false)),
+        NoiseLevel::Exact => Ok((None, None)),
+        NoiseLevel::Known(s) => Ok(((s > 0.0).then_some(s), None)),
         NoiseLevel::Estimate => {
             let (est, _) = estimate_with(
                 data,
@@ -666,9 +691,9 @@ pub(crate) fn resolve_noise_with(
             )?;
             let scale = data.norm() / (data.len() as f64).sqrt();
             if est.sigma.is_nan() || est.sigma <= DEFAULT_RANK_TOLERANCE * scale {
-                Ok((None, true))
+                Ok((None, Some(est.method)))
             } else {
-                Ok((Some(est.sigma), true))
+                Ok((Some(est.sigma), Some(est.method)))
             }
         }
     }

@@ -183,5 +183,15 @@ fn sdp_with_the_default_noise_level_flags_red_noise() {
             eprintln!("  {:?}", e.diagnostics.warnings);
         }
         assert_eq!(flagged, red, "{name}: {:?}", e.diagnostics.warnings);
+        // How σ was made is reported: the whole-band level exactly when the floor is not flat.
+        assert_eq!(
+            matches!(
+                e.diagnostics.sigma_method,
+                Some(finespike::SigmaMethod::NoiseFloor { .. })
+            ),
+            red,
+            "{name}: {:?}",
+            e.diagnostics.sigma_method
+        );
     }
 }

@@ -314,10 +314,10 @@ pub fn summary(
         (Some(s), true) => format!(
             "σ = {} ({})",
             num(s),
-            if d.sigma_estimated {
-                "estimated from the data"
-            } else {
-                "as given"
+            match (&d.sigma_method, d.sigma_estimated) {
+                (Some(m), true) => format!("estimated from the data: {m}"),
+                (None, true) => "estimated from the data".to_string(),
+                _ => "as given".to_string(),
             }
         ),
     };

@@ -111,6 +111,7 @@ fn recover_json_has_a_fixed_shape() {
             ("data_norm", &["number"]),
             ("sigma", &["number", "null"]),
             ("sigma_estimated", &["bool"]),
+            ("sigma_method", &["object", "null"]),
             ("certificate", &["object", "null"]),
             ("warnings", &["array"]),
             ("model_order", &["object", "null"]),

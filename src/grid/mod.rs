@@ -240,7 +240,8 @@ impl Estimator for GridL1 {
                 advice: "a single sample holds no position information",
             });
         }
-        let (sigma, estimated) = resolve_sigma(data, self.noise)?;
+        let (sigma, sigma_method) = resolve_sigma(data, self.noise)?;
+        let estimated = sigma_method.is_some();
         self.settings.validated()?;
         let op = operator(data, self.settings.oversample)?;
         let gap = self.settings.cluster_gap.min(self.settings.oversample / 2);
@@ -317,6 +318,7 @@ impl Estimator for GridL1 {
             builder = builder.duality_gap(g);
         }
         let mut diagnostics = builder.noise(sigma, estimated);
+        diagnostics.sigma_method = sigma_method;
         diagnostics.solve_seconds = start.elapsed().as_secs_f64();
         Ok(Estimate {
             method: self.name(),

@@ -580,12 +580,14 @@ pub(crate) fn run(
     // The noise-level estimate reuses the singular values of the order choice when its window is
     // the same (records of 766 samples or more with the default settings).
     let shared = Some(&mut prepared.analysis);
-    let (sigma, estimated) = match crate::noise::resolve_noise_with(data, settings.noise, shared) {
+    let (sigma, sigma_method) = match crate::noise::resolve_noise_with(data, settings.noise, shared)
+    {
         Ok(level) => level,
         // Too short a record to estimate σ: no noise assessment and no pruning (both optional).
-        Err(Error::RunTooShort { .. }) => (None, false),
+        Err(Error::RunTooShort { .. }) => (None, None),
         Err(e) => return Err(e),
     };
+    let estimated = sigma_method.is_some();
     // An order chosen by a statistical criterion can be over-estimated; a given or numerical-rank
     // order is kept as it is.
     let statistical = matches!(prepared.order.method, OrderMethod::Mdl | OrderMethod::Aic);
@@ -616,6 +618,7 @@ pub(crate) fn run(
         .iterations(power_iterations + refine_steps)
         .model_order(prepared.order)
         .noise(sigma, estimated);
+    diagnostics.sigma_method = sigma_method;
     diagnostics.solve_seconds = prepared.start.elapsed().as_secs_f64();
     Ok(Estimate {
         method: method.name(),

@@ -183,11 +183,13 @@ pub(crate) fn run(
 ) -> Result<Estimate> {
     let start = Instant::now();
     let settings = settings.validated()?;
-    let (sigma, sigma_estimated) = resolve_noise(data, noise)?;
+    let (sigma, sigma_method) = resolve_noise(data, noise)?;
+    let sigma_estimated = sigma_method.is_some();
     let problem = problem_for(sigma)?.validated()?;
     let n = data.band_len();
     if let Some(zero) = zero_solution(data, problem, &settings) {
         let mut est = finish(method, data, zero, sigma, sigma_estimated, &settings)?;
+        est.diagnostics.sigma_method = sigma_method;
         est.diagnostics.solve_seconds = start.elapsed().as_secs_f64();
         return Ok(est);
     }
@@ -210,6 +212,7 @@ pub(crate) fn run(
         interior::solve_convex(data, problem, &settings)?
     };
     let mut est = finish(method, data, solution, sigma, sigma_estimated, &settings)?;
+    est.diagnostics.sigma_method = sigma_method;
     est.diagnostics.solve_seconds = start.elapsed().as_secs_f64();
     Ok(est)
 }
