@@ -83,7 +83,8 @@ pub fn fit(data: &Measurements, positions: &[f64]) -> Result<Spikes> {
         positions.to_vec()
     };
     if data.trend_basis().is_some() {
-        support.retain(|&p| trend_visibility(data, p) >= MIN_TREND_VISIBILITY);
+        // Judged on the folded position, so that both members of a mirror pair go or stay together.
+        support.retain(|&p| trend_visibility(data, p.min(1.0 - p)) >= MIN_TREND_VISIBILITY);
     }
     let positions = &support[..];
     let mut amps = least_squares(data, positions)?;
@@ -164,11 +165,14 @@ fn impose_conjugate_symmetry(positions: &[f64], amps: &mut [Complex64]) {
         if p == 0.0 || p == 0.5 {
             amps[j].im = 0.0;
             j += 1;
-        } else {
+        } else if j + 1 < positions.len() && positions[j + 1] == 1.0 - p {
             let a = (amps[j] + amps[j + 1].conj()) / 2.0;
             amps[j] = a;
             amps[j + 1] = a.conj();
             j += 2;
+        } else {
+            // Not a pair as `mirror_support` lays them out (cannot happen for its output): leave it.
+            j += 1;
         }
     }
 }
