@@ -508,6 +508,8 @@ fn render(
 
         let mut chart = ChartBuilder::on(&top)
             .margin(12)
+            // Room for the last tick label, centred on the right edge of the plot.
+            .margin_right(40)
             .caption(
                 format!(
                     "{} — {} estimate",
@@ -621,6 +623,7 @@ fn render(
             let qmax = q.iter().copied().fold(1.0f64, f64::max) * 1.08;
             let mut qc = ChartBuilder::on(&mid)
                 .margin(12)
+                .margin_right(40)
                 .caption(
                     "dual polynomial |q(t)|: the support is where it touches the dashed line |q| = 1",
                     ("sans-serif", 16).into_font().color(&INK),
