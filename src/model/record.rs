@@ -12,6 +12,7 @@
 //! Gram–Schmidt, applied twice, on the monomials of the centred and scaled index
 //! `t = (n − centre)/half`), and `P⊥v = v − Q(Qᵀv)`.
 
+use super::{forward, Domain, Measurements, Spikes};
 use crate::error::{Error, Result};
 use num_complex::Complex64;
 use serde::{Deserialize, Serialize};
@@ -262,6 +263,162 @@ impl Scale {
                 rule: "must be positive and finite",
             })
         }
+    }
+}
+
+/// Real-valued records, trends and scales of [`Measurements`] (the record's kind beside its samples).
+impl Measurements {
+    /// `N` real-valued samples `x_0, …, x_{N−1}` of `Σ_j A_j cos(2πf_j n + φ_j)`.
+    ///
+    /// In the complex model each line is the conjugate-symmetric pair `(A/2)e^{±iφ}` at `±f`; the
+    /// estimators fit such pairs and report each line once, at `f ∈ [0, 1/2]` with the phasor
+    /// amplitude `A e^{iφ}` (see [`crate::Line`]).
+    ///
+    /// # Errors
+    /// As [`Measurements::from_time_samples`].
+    pub fn from_real_samples(samples: &[f64]) -> Result<Self> {
+        let z: Vec<Complex64> = samples.iter().map(|&x| Complex64::new(x, 0.0)).collect();
+        let mut m = Self::from_time_samples(&z)?;
+        m.real = true;
+        Ok(m)
+    }
+
+    /// Real-valued samples at integer sample indices `times` (any origin, gaps allowed).
+    ///
+    /// # Errors
+    /// As [`Measurements::from_time_subset`].
+    pub fn from_real_subset(times: &[i64], samples: &[f64]) -> Result<Self> {
+        let z: Vec<Complex64> = samples.iter().map(|&x| Complex64::new(x, 0.0)).collect();
+        let mut m = Self::from_time_subset(times, &z)?;
+        m.real = true;
+        Ok(m)
+    }
+
+    /// The same record with a polynomial nuisance fitted jointly with the lines (see
+    /// [`Trend`]): the estimators see the data with the best polynomial projected out, and every
+    /// residual is taken after refitting it.
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] when the polynomial would take more than half of the measured
+    /// samples.
+    pub fn with_trend(&self, trend: Trend) -> Result<Self> {
+        let raw = self.raw_values().to_vec();
+        let mut m = Measurements {
+            values: raw.clone(),
+            trend,
+            basis: None,
+            raw: Vec::new(),
+            ..self.clone()
+        };
+        if let Some(d) = trend.degree() {
+            let user: Vec<i64> = self
+                .indices
+                .iter()
+                .map(|&k| self.domain.user_index(k))
+                .collect();
+            let basis = TrendBasis::new(&user, d)?;
+            basis.project(&mut m.values);
+            m.basis = Some(basis);
+            m.raw = raw;
+        }
+        Ok(m)
+    }
+
+    /// The same record with a physical scale: a sample rate for a time record, a domain length for
+    /// Fourier data.
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] for a non-positive or non-finite value;
+    /// also for a sample rate on Fourier data or a length on a time record.
+    pub fn with_scale(&self, scale: Scale) -> Result<Self> {
+        let scale = scale.validated()?;
+        let fits = matches!(
+            (scale, self.domain),
+            (Scale::SampleRate(_), Domain::Time) | (Scale::DomainLength(_), Domain::Fourier)
+        );
+        if !fits {
+            return Err(Error::InvalidSetting {
+                name: match scale {
+                    Scale::SampleRate(_) => "sample rate",
+                    Scale::DomainLength(_) => "domain length",
+                },
+                value: scale.factor().to_string(),
+                rule: "a sample rate applies to time records, a domain length to Fourier data",
+            });
+        }
+        Ok(Measurements {
+            scale: Some(scale),
+            ..self.clone()
+        })
+    }
+
+    /// True for a real-valued time record.
+    pub fn is_real(&self) -> bool {
+        self.real
+    }
+
+    /// The physical scale, if one was given.
+    pub fn scale(&self) -> Option<Scale> {
+        self.scale
+    }
+
+    /// The polynomial nuisance fitted with the lines.
+    pub fn trend(&self) -> Trend {
+        self.trend
+    }
+
+    /// The basis of the polynomial nuisance (`None` without one).
+    pub fn trend_basis(&self) -> Option<&TrendBasis> {
+        self.basis.as_ref()
+    }
+
+    /// The values as given (before a trend was projected out).
+    pub fn raw_values(&self) -> &[Complex64] {
+        if self.basis.is_some() {
+            &self.raw
+        } else {
+            &self.values
+        }
+    }
+
+    /// The fitted nuisance for a spike train: the least-squares polynomial of `x − Fμ`.
+    pub fn trend_fit(&self, spikes: &Spikes) -> Option<TrendFit> {
+        let basis = self.basis.as_ref()?;
+        let model = forward(spikes, &self.indices);
+        let r: Vec<Complex64> = self.raw.iter().zip(model).map(|(y, m)| y - m).collect();
+        Some(TrendFit {
+            trend: self.trend,
+            centre: basis.centre(),
+            coefficients: basis.coefficients(&r),
+        })
+    }
+
+    /// A position (cycles per sample, or a fraction of the domain) in the user's unit: for a time
+    /// record, a signed frequency in `(−1/2, 1/2]` (for a real one, `[0, 1/2]`) times the sample
+    /// rate; for Fourier data, the position times the domain length.
+    pub fn physical(&self, position: f64) -> f64 {
+        let p = match self.domain {
+            Domain::Time if position > 0.5 => position - 1.0,
+            _ => position,
+        };
+        let p = if self.real { p.abs() } else { p };
+        p * self.scale.map_or(1.0, Scale::factor)
+    }
+
+    /// The record's resolution `1/N` (one periodogram bin) in the user's unit: `R/N` Hz with a
+    /// sample rate, `L/N` with a domain length.
+    pub fn resolution(&self) -> f64 {
+        self.scale.map_or(1.0, Scale::factor) / self.band_len() as f64
+    }
+
+    /// The first and last index of the record as the user numbered them (sample indices `n` for
+    /// a time record, `k` for Fourier data).
+    pub fn user_span(&self) -> (i64, i64) {
+        let (a, b) = (
+            self.domain.user_index(self.kmin),
+            self.domain.user_index(self.kmax),
+        );
+        (a.min(b), a.max(b))
     }
 }
 

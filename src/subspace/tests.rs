@@ -1,4 +1,4 @@
-//! Unit tests of the parent module.
+//! Unit tests of the parent module (compiled only under `cfg(test)`: `unwrap` here is the assertion).
 use super::*;
 use crate::estimator::Estimator;
 use crate::model::{forward, wrap_distance, Domain, Spikes};

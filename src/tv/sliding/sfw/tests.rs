@@ -1,4 +1,4 @@
-//! Unit tests of the parent module.
+//! Unit tests of the parent module (compiled only under `cfg(test)`: `unwrap` here is the assertion).
 use super::*;
 use crate::model::{forward, Domain, Measurements, Spikes};
 use rand::rngs::StdRng;
