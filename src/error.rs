@@ -25,6 +25,20 @@ pub enum Error {
         /// The offending value, printed.
         value: String,
     },
+    /// A value of a multi-snapshot record was NaN or infinite.
+    #[error(
+        "{what} {index}, snapshot {snapshot}, is not finite ({value}): remove or repair the value"
+    )]
+    NonFiniteSnapshot {
+        /// What the index counts, in the user's terms (`"sample index n ="` for sensors).
+        what: &'static str,
+        /// The sensor (or coefficient) index, as the user numbered it.
+        index: i64,
+        /// The snapshot, numbered from 0.
+        snapshot: usize,
+        /// The offending value, printed.
+        value: String,
+    },
     /// The same index was given twice.
     #[error("{what} {index} appears more than once: each must be given once")]
     DuplicateIndex {
@@ -156,6 +170,17 @@ pub enum Error {
         option: &'static str,
         /// The methods that take it, comma-separated.
         takers: String,
+    },
+    /// A multi-snapshot record was given to a method that takes one record at a time.
+    #[error(
+        "method '{method}' takes one record at a time, not a multi-snapshot record; the methods \
+         that take snapshots are {takers}"
+    )]
+    SnapshotsNotTaken {
+        /// The method's name.
+        method: String,
+        /// The methods that take snapshots, comma-separated.
+        takers: &'static str,
     },
     /// The method needs a positive noise level and none was given or could be found.
     #[error("method '{method}' needs a positive noise level: {advice}")]

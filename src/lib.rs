@@ -66,11 +66,12 @@ pub use num_complex;
 pub use num_complex::Complex64;
 
 pub use batch::{estimate_batch, estimate_batch_with_progress};
-pub use bounds::{crb, crb_for, single_tone_position_variance, Crb, SpikeBound};
+pub use bounds::{conditional_crb, crb, crb_for, single_tone_position_variance, Crb, SpikeBound};
 pub use dual::{Certificate, DualPolynomial};
 pub use error::{Error, Result};
 pub use estimator::{
-    Diagnostics, DiagnosticsBuilder, Estimate, Estimator, Line, NoiseLevel, Status, Warning,
+    ArrayAssembly, ArrayDiagnostics, ArrayEstimate, Diagnostics, DiagnosticsBuilder, Estimate,
+    Estimator, Line, NoiseLevel, Source, Status, Warning, SNAPSHOT_METHODS,
 };
 pub use eval::metrics::{MatchSettings, Score};
 pub use eval::scenario::{AmplitudeKind, Sample, Scenario};
@@ -78,10 +79,13 @@ pub use greedy::{Greedy, GreedyFit, GreedySettings, GreedyStop};
 pub use grid::{GridL1, GridSettings};
 pub use kernels::refine::RefineSettings;
 pub use model::{
-    wrap_distance, Domain, Measurements, Scale, Spike, Spikes, Trend, TrendFit,
+    wrap_distance, Domain, Measurements, Scale, Snapshots, Spike, Spikes, Trend, TrendFit,
     CLASSICAL_SEPARATION_FC, PROVEN_SEPARATION_FC,
 };
-pub use noise::{estimate_sigma, residual_sigma, NoiseColour, SigmaEstimate, SigmaMethod};
+pub use noise::{
+    estimate_sigma, estimate_snapshot_sigma, residual_sigma, NoiseColour, SigmaEstimate,
+    SigmaMethod, MAX_COVARIANCE_SENSORS,
+};
 pub use postprocess::PostProcess;
 pub use registry::{estimator_by_name, METHODS};
 pub use subspace::{

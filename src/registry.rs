@@ -59,6 +59,8 @@ pub struct Method {
     pub takes_backend: bool,
     /// Whether it accepts a measured set with gaps.
     pub accepts_gaps: bool,
+    /// Whether it takes multi-snapshot records ([`crate::Estimator::estimate_snapshots`]).
+    pub takes_snapshots: bool,
     build: fn(&MethodOptions) -> Result<Box<dyn Estimator>>,
 }
 
@@ -87,6 +89,7 @@ pub const METHODS: &[Method] = &[
         takes_order: false,
         takes_backend: true,
         accepts_gaps: true,
+        takes_snapshots: true,
         build: |o| {
             Ok(Box::new(Tv {
                 noise: o.noise,
@@ -101,6 +104,7 @@ pub const METHODS: &[Method] = &[
         takes_order: false,
         takes_backend: true,
         accepts_gaps: true,
+        takes_snapshots: true,
         build: |o| {
             Ok(Box::new(Ast {
                 noise: o.noise,
@@ -116,6 +120,7 @@ pub const METHODS: &[Method] = &[
         takes_order: false,
         takes_backend: false,
         accepts_gaps: true,
+        takes_snapshots: true,
         build: |o| Ok(Box::new(Sfw::default().with_noise(o.noise))),
     },
     Method {
@@ -125,6 +130,7 @@ pub const METHODS: &[Method] = &[
         takes_order: true,
         takes_backend: false,
         accepts_gaps: true,
+        takes_snapshots: false,
         build: |o| {
             let g = Greedy {
                 noise: o.noise,
@@ -143,6 +149,7 @@ pub const METHODS: &[Method] = &[
         takes_order: false,
         takes_backend: false,
         accepts_gaps: true,
+        takes_snapshots: false,
         build: |o| {
             Ok(Box::new(GridL1 {
                 noise: o.noise,
@@ -157,6 +164,7 @@ pub const METHODS: &[Method] = &[
         takes_order: true,
         takes_backend: false,
         accepts_gaps: false,
+        takes_snapshots: true,
         build: |o| Ok(Box::new(Music::new(subspace(o)?))),
     },
     Method {
@@ -166,6 +174,7 @@ pub const METHODS: &[Method] = &[
         takes_order: true,
         takes_backend: false,
         accepts_gaps: false,
+        takes_snapshots: true,
         build: |o| Ok(Box::new(Esprit::new(subspace(o)?))),
     },
     Method {
@@ -175,6 +184,7 @@ pub const METHODS: &[Method] = &[
         takes_order: true,
         takes_backend: false,
         accepts_gaps: false,
+        takes_snapshots: true,
         build: |o| Ok(Box::new(MatrixPencil::new(subspace(o)?))),
     },
 ];
@@ -269,6 +279,16 @@ mod tests {
             estimator_by_name("nosuch"),
             Err(Error::UnknownMethod { .. })
         ));
+    }
+
+    #[test]
+    fn snapshot_takers_are_listed_in_the_refusal() {
+        let takers: Vec<&str> = METHODS
+            .iter()
+            .filter(|m| m.takes_snapshots)
+            .map(|m| m.name)
+            .collect();
+        assert_eq!(takers.join(", "), crate::SNAPSHOT_METHODS);
     }
 
     #[test]

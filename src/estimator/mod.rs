@@ -3,11 +3,12 @@
 //! Every method — convex (`sdp`), subspace, greedy — takes validated [`Measurements`] and returns an
 //! [`Estimate`]: the recovered spikes, a [`Status`] that says how the computation went, and
 //! [`Diagnostics`] that say how far the answer can be trusted (separation against the proven
-//! thresholds, residual, certificate).
+//! thresholds, residual, certificate). Multi-snapshot records ([`Snapshots`], array data) go through
+//! [`Estimator::estimate_snapshots`] and return an [`ArrayEstimate`] (module `array.rs`).
 
 use crate::dual::{Certificate, DualPolynomial};
 use crate::error::Result;
-use crate::model::{Measurements, Spikes, PROVEN_SEPARATION_FC};
+use crate::model::{Measurements, Snapshots, Spikes, PROVEN_SEPARATION_FC};
 use num_complex::Complex64;
 use serde::Serialize;
 use std::fmt;
@@ -30,6 +31,20 @@ pub trait Estimator: Send + Sync + fmt::Debug {
     /// Only for data the method cannot handle at all (e.g. gaps in `K` for a subspace method);
     /// solver trouble is reported in [`Estimate::status`].
     fn estimate(&self, data: &Measurements) -> Result<Estimate>;
+
+    /// Recover the sources shared by the snapshots of a multi-snapshot record (array data): one
+    /// position per source for all snapshots, an amplitude per snapshot.
+    ///
+    /// # Errors
+    /// The default refuses with [`crate::Error::SnapshotsNotTaken`], naming the methods that take
+    /// snapshots ([`SNAPSHOT_METHODS`]); those methods refuse only what they cannot handle at all.
+    fn estimate_snapshots(&self, data: &Snapshots) -> Result<ArrayEstimate> {
+        let _ = data;
+        Err(crate::Error::SnapshotsNotTaken {
+            method: self.name().to_string(),
+            takers: SNAPSHOT_METHODS,
+        })
+    }
 }
 
 /// The noise level a noise-aware estimator works with.
@@ -487,7 +502,9 @@ pub struct Estimate {
     pub dual: Option<DualPolynomial>,
 }
 
+mod array;
 mod warning;
+pub use array::{ArrayAssembly, ArrayDiagnostics, ArrayEstimate, Source, SNAPSHOT_METHODS};
 pub use warning::Warning;
 
 #[cfg(test)]

@@ -110,6 +110,21 @@ pub enum Warning {
         /// The spikes kept.
         kept: usize,
     },
+    /// An array whose element spacing exceeds half a wavelength: every spatial frequency maps to more
+    /// than one direction (grating lobes), so each reported angle is one of several possible.
+    AmbiguousAngles {
+        /// The element spacing in wavelengths.
+        spacing: f64,
+    },
+    /// A source whose spatial frequency lies outside the visible region `|f| ≤ d` of an array with
+    /// spacing `d < 1/2` wavelengths: no direction of arrival produces it (an artifact, or a wrong
+    /// spacing).
+    OutsideVisibleRegion {
+        /// The source's signed spatial frequency, cycles per sensor.
+        frequency: f64,
+        /// The element spacing in wavelengths.
+        spacing: f64,
+    },
 }
 
 impl fmt::Display for Warning {
@@ -219,6 +234,14 @@ impl fmt::Display for Warning {
                 f,
                 "the model-order criterion chose {estimated} components but only {kept} stand above \
                  the noise; the others were dropped"
+            ),
+            Warning::AmbiguousAngles { spacing } => write!(
+                f,
+                "AMBIGUOUS ANGLES: the element spacing {spacing} wavelengths is above 1/2, so each                  spatial frequency has more than one direction of arrival (grating lobes); the                  angles reported are the ones nearest broadside, and the others are as likely"
+            ),
+            Warning::OutsideVisibleRegion { frequency, spacing } => write!(
+                f,
+                "a source at spatial frequency {frequency:.4} lies outside the visible region                  |f| ≤ {spacing} of this array: no direction of arrival gives it; it is an                  artifact or the spacing is wrong"
             ),
         }
     }

@@ -15,6 +15,7 @@
 //! - [`hankel_svd`]: singular values and vectors of the forward Hankel matrix, computed once per
 //!   estimate and shared by the model order and the noise-level estimate; streamed for long records.
 //! - [`rank`]: the numerical-rank rule and the exact-data test on singular values.
+//! - [`criteria`]: MDL and AIC model-order criteria on covariance eigenvalues (Wax & Kailath 1985).
 //! - [`budget`]: the memory and work limits every kernel checks before allocating.
 //! - [`spectrum`]: the noise spectrum of a record on its measured indices (tapered periodogram, robust
 //!   floor, whole-band noise level with lines set aside, whiteness figure).
@@ -34,6 +35,7 @@ pub(crate) fn noise_ball_radius(sigma: f64, m: usize) -> f64 {
 
 pub(crate) mod band;
 pub(crate) mod budget;
+pub(crate) mod criteria;
 pub(crate) mod hankel;
 pub(crate) mod hankel_svd;
 pub(crate) mod lstsq;

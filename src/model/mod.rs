@@ -16,7 +16,9 @@ use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
 
 mod record;
+mod snapshots;
 pub use record::{Scale, Trend, TrendBasis, TrendFit, MAX_TREND_DEGREE};
+pub use snapshots::{Snapshots, SENSOR_WORDS};
 
 /// Proven separation threshold for exact recovery by TV minimisation, in Rayleigh units:
 /// `Δ ≥ 1.26/fc` (Fernandez-Granda 2016, Information and Inference 5(3), Thm. 2.2).

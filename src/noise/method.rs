@@ -44,6 +44,22 @@ pub enum SigmaMethod {
         /// The Hankel (sample-to-sample) estimate it replaces, for comparison.
         white_sigma: f64,
     },
+    /// Noise eigenvalues of the sample covariance of a multi-snapshot record (Wax & Kailath 1985):
+    /// the mean of the `|K| − ŝ` smallest, `ŝ` chosen by MDL.
+    SampleCovariance {
+        /// Snapshots `L` behind the covariance.
+        snapshots: usize,
+        /// Sources `ŝ` set aside (MDL).
+        order: usize,
+        /// Noise eigenvalues averaged.
+        noise_eigenvalues: usize,
+    },
+    /// Too few snapshots for a sample covariance: the single-record estimate of every snapshot,
+    /// pooled as the root mean square.
+    PooledSnapshots {
+        /// Snapshots pooled.
+        snapshots: usize,
+    },
 }
 
 impl std::fmt::Display for SigmaMethod {
@@ -66,6 +82,18 @@ impl std::fmt::Display for SigmaMethod {
                 f,
                 "whole-band level of the noise spectrum with {lines_removed} lines set aside, because \
                  the noise floor is not flat (the sample-to-sample level is {white_sigma:.4})"
+            ),
+            SigmaMethod::SampleCovariance {
+                snapshots,
+                order,
+                noise_eigenvalues,
+            } => write!(
+                f,
+                "mean of the {noise_eigenvalues} noise eigenvalues of the sample covariance of                  {snapshots} snapshots ({order} sources set aside by MDL)"
+            ),
+            SigmaMethod::PooledSnapshots { snapshots } => write!(
+                f,
+                "single-record estimates of {snapshots} snapshots, pooled (too few snapshots for a                  sample covariance)"
             ),
         }
     }

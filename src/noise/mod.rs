@@ -631,7 +631,9 @@ pub(crate) fn resolve_noise_with(
 }
 
 mod method;
+mod snapshots;
 pub use method::SigmaMethod;
+pub use snapshots::{estimate_snapshot_sigma, MAX_COVARIANCE_SENSORS};
 
 #[cfg(test)]
 mod tests;

@@ -42,6 +42,9 @@
 //!
 //! (Page numbers and DOIs recalled from memory.)
 
+mod snapshots;
+pub use snapshots::conditional_crb;
+
 use crate::error::{Error, Result};
 use crate::model::{atom, Domain, Measurements, Spike, Spikes};
 use faer::{Mat, Side};
