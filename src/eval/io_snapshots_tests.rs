@@ -1,0 +1,173 @@
+//! Tests of the snapshot file formats: good files read back exactly, every bad file is refused with
+//! its line. Values are invented.
+
+use super::*;
+use crate::eval::array_scene::ArrayScene;
+
+fn err(text: &str) -> String {
+    read_snapshots_text(text, "x.csv", None)
+        .unwrap_err()
+        .to_string()
+}
+
+#[test]
+fn reads_sensor_files_in_any_row_order_and_case() {
+    // 3 sensors × 2 snapshots, rows shuffled, float-written indices, mixed-case header.
+    let text = "N,Snapshot,RE,IM\n2,1,6,0\n0,0,1,0.5\n1.0,0,2,0\n2,0,3,0\n\n0,1e0,4,0\n1,1,5,-1\n";
+    let data = read_snapshots_text(text, "a.csv", None).unwrap();
+    assert_eq!((data.len(), data.snapshot_count()), (3, 2));
+    assert_eq!(data.domain(), Domain::Time);
+    // Row i of the values belongs to internal index k = −n, sorted: n = 2, 1, 0.
+    assert_eq!(data.indices(), &[-2, -1, 0]);
+    let x = data.values();
+    assert_eq!(x[(2, 0)], Complex64::new(1.0, 0.5));
+    assert_eq!(x[(1, 1)], Complex64::new(5.0, -1.0));
+    assert_eq!(x[(0, 1)], Complex64::new(6.0, 0.0));
+    assert!(is_snapshot_text(text));
+    assert!(!is_snapshot_text("n,re,im\n0,1,0\n"));
+    assert!(is_snapshot_text("\u{feff}k, snapshot, re, im\n"));
+}
+
+#[test]
+fn written_files_read_back_exactly() {
+    let draw = ArrayScene::new(6, 4, &[0.1, -0.27])
+        .unwrap()
+        .with_snr_db(3.0)
+        .unwrap()
+        .with_missing_sensors(&[2])
+        .unwrap()
+        .with_seed(11)
+        .draw()
+        .unwrap();
+    let text = snapshots_to_csv(&draw.data);
+    assert!(text.starts_with("n,snapshot,re,im\n0,0,"), "{text}");
+    // 5 sensors × 4 snapshots + the header.
+    assert_eq!(text.lines().count(), 21);
+    assert!(!text.contains("\n2,"), "sensor 2 is missing: {text}");
+    let back = read_snapshots_text(&text, "w.csv", None).unwrap();
+    assert_eq!(back.indices(), draw.data.indices());
+    assert_eq!(back.values(), draw.data.values());
+    assert_eq!(back.band_len(), 6);
+    // Fourier snapshots keep their k.
+    let f = read_snapshots_text("k,snapshot,re,im\n-1,0,1,0\n1,0,2,0\n", "f.csv", Some(3)).unwrap();
+    assert_eq!((f.domain(), f.band_len()), (Domain::Fourier, 7));
+    let text = snapshots_to_csv(&f);
+    assert_eq!(text, "k,snapshot,re,im\n-1,0,1,0\n1,0,2,0\n");
+}
+
+#[test]
+fn a_missing_row_names_its_line_sensor_and_snapshot() {
+    // Sensor 1 is present in snapshot 0 but not in snapshot 1: its row belongs before line 6.
+    let text = "n,snapshot,re,im\n0,0,1,0\n1,0,1,0\n2,0,1,0\n0,1,1,0\n2,1,1,0\n";
+    assert_eq!(
+        err(text),
+        "x.csv, line 6: found no row for sensor n = 1 in snapshot 1 (its rows are on lines 5..6), \
+         expected every sensor n of the file in every snapshot; a sensor absent from every \
+         snapshot counts as missing, one absent from some snapshots only is an error"
+    );
+    // The last sensor missing from the first snapshot: expected after that snapshot's last row.
+    let text = "n,snapshot,re,im\n0,0,1,0\n1,0,1,0\n0,1,1,0\n1,1,1,0\n2,1,1,0\n";
+    assert!(
+        err(text).starts_with("x.csv, line 3: found no row for sensor n = 2 in snapshot 0"),
+        "{}",
+        err(text)
+    );
+    // A sensor absent from every snapshot is a missing sensor, not an error.
+    let ok = read_snapshots_text(
+        "n,snapshot,re,im\n0,0,1,0\n3,0,1,0\n0,1,1,0\n3,1,1,0\n",
+        "x.csv",
+        None,
+    )
+    .unwrap();
+    assert_eq!((ok.len(), ok.band_len()), (2, 4));
+    // A snapshot number skipped altogether.
+    let text = "n,snapshot,re,im\n0,0,1,0\n1,0,1,0\n0,2,1,0\n1,2,1,0\n";
+    assert_eq!(
+        err(text),
+        "x.csv, line 5: found no row for snapshot 1 (the file goes on to snapshot 2), expected \
+         snapshots numbered 0..L-1 without gaps"
+    );
+}
+
+#[test]
+fn duplicates_and_bad_values_name_their_lines() {
+    let text = "n,snapshot,re,im\n0,0,1,0\n1,0,1,0\n0,0,2,0\n";
+    assert_eq!(
+        err(text),
+        "x.csv, line 4: found sensor n = 0 in snapshot 0 again (first on line 2), expected each \
+         sensor n once per snapshot"
+    );
+    assert_eq!(
+        err("n,snapshot,re,im\n0,0,1,0\n1,0,abc,0\n"),
+        "x.csv, line 3: found 'abc' in column re, expected a number"
+    );
+    assert_eq!(
+        err("n,snapshot,re,im\n0,0,1,0\n1,0,1,NaN\n"),
+        "x.csv, line 3: found 'NaN' in column im, expected a finite number"
+    );
+    assert_eq!(
+        err("n,snapshot,re,im\n0,0,1,0\n1,0.5,1,0\n"),
+        "x.csv, line 3: found '0.5' in column snapshot, expected a snapshot number 0, 1, 2, …"
+    );
+    assert!(err("n,snapshot,re,im\n0,-1,1,0\n").contains("line 2: found '-1' in column snapshot"));
+    assert_eq!(
+        err("n,snapshot,re,im\n2.5,0,1,0\n"),
+        "x.csv, line 2: found '2.5' in column n, expected an integer sensor index"
+    );
+    assert_eq!(
+        err("n,snapshot,re,im\n0,0,1\n"),
+        "x.csv, line 2: found 3 fields, expected 4 (n,snapshot,re,im)"
+    );
+    assert!(err("n,re,im\n0,1,0\n").starts_with("x.csv, line 1: found header 'n,re,im'"));
+    assert!(err("").starts_with("x.csv, line 1: found an empty file"));
+    assert!(err("n,snapshot,re,im\n\n").starts_with("x.csv, line 2: found no data rows"));
+    let e = read_snapshots_text("k,snapshot,re,im\n0,0,1,0\n4,0,1,0\n", "f.csv", Some(3))
+        .unwrap_err()
+        .to_string();
+    assert!(e.starts_with("f.csv, line 3: found k = 4"), "{e}");
+    // One sensor only: the record's own rule, in its own words.
+    let e = err("n,snapshot,re,im\n5,0,1,0\n5,1,1,0\n");
+    assert!(e.contains("single index"), "{e}");
+}
+
+#[test]
+fn truths_round_trip_and_give_the_bound_of_their_draw() {
+    let draw = ArrayScene::new(8, 5, &[0.12, 0.4])
+        .unwrap()
+        .with_snr_db(10.0)
+        .unwrap()
+        .with_spacing(0.5)
+        .unwrap()
+        .with_missing_sensors(&[3])
+        .unwrap()
+        .with_seed(2)
+        .draw()
+        .unwrap();
+    let truth = ArrayTruth::from_draw(&draw, 8, Some(10.0), SourceCorrelation::Uncorrelated, 2);
+    assert_eq!(truth.missing_sensors, vec![3]);
+    assert_eq!(truth.sources[0].power, 10.0);
+    let text = array_truth_json(&truth);
+    assert!(is_array_truth_text(&text));
+    assert!(!is_array_truth_text("{\"spikes\": []}"));
+    let back = parse_array_truth(&text, "t.json").unwrap();
+    assert_eq!(back, truth);
+    // The noiseless record is the draw's data without noise: the same array and spacing.
+    let clean = back.noiseless().unwrap();
+    assert_eq!(clean.indices(), draw.data.indices());
+    assert_eq!(clean.spacing(), Some(0.5));
+    // Its bound is the library's conditional bound of the drawn amplitudes.
+    let want =
+        crate::bounds::conditional_crb(&draw.data, &draw.positions, &draw.amplitudes, draw.sigma)
+            .unwrap();
+    let got = back.conditional_crb(1.0).unwrap();
+    for (a, b) in got.iter().zip(&want) {
+        assert!((a / b - 1.0).abs() < 1e-12, "{got:?} vs {want:?}");
+    }
+    // Inconsistent truths are refused.
+    let mut bad = truth.clone();
+    bad.sources[1].amplitudes.pop();
+    let e = parse_array_truth(&array_truth_json(&bad), "t.json").unwrap_err();
+    assert!(e.to_string().contains("source 1 has 4 amplitudes"), "{e}");
+    let e = parse_array_truth("{\"kind\": \"array\"}", "t.json").unwrap_err();
+    assert!(e.to_string().contains("not an array truth"), "{e}");
+}
