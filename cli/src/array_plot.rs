@@ -285,7 +285,7 @@ fn render(
         .fold(f64::NEG_INFINITY, f64::max);
     let floor = curve.iter().map(|p| p.1).fold(f64::INFINITY, f64::min);
     let (ylo, yhi) = ((floor - 3.0).max(top - 60.0), top + 8.0);
-    let lines = caption(path, data, truth, est, (width as usize - 48) / 8);
+    let lines = caption(path, data, truth, est, (width as usize - 48) / 7);
     let top_h = 440u32;
     let height = top_h + 24 * lines.len() as u32 + 24;
     let mut svg = String::new();
@@ -312,6 +312,8 @@ fn render(
             .configure_mesh()
             .x_desc(axis.label())
             .y_desc("power (dB)")
+            .x_label_formatter(&|x| sig(*x, 4))
+            .y_label_formatter(&|y| sig(*y, 4))
             .axis_desc_style(("sans-serif", 16))
             .label_style(("sans-serif", 14))
             .light_line_style(RGBColor(238, 238, 238))
@@ -402,5 +404,65 @@ mod tests {
         assert!((at(&spectrum, -0.75) / power - 1.0).abs() < 1e-12);
         let axis = Axis { spacing: Some(0.5) };
         assert!((axis.frequency(30.0) - 0.25).abs() < 1e-15);
+    }
+}
+
+#[cfg(test)]
+mod render_tests {
+    use super::*;
+    use finespike::eval::array_scene::ArrayScene;
+    use finespike::eval::array_scene::SourceCorrelation;
+    use finespike::eval::io_snapshots::ArrayTruth;
+
+    /// An invented scene drawn with the true positions standing in for an estimate (the figure is
+    /// under test here, not a method).
+    fn figure(spacing: f64) -> String {
+        let positions = [0.1, 0.1 + 3.0 / 12.0, -0.3];
+        let draw = ArrayScene::new(12, 30, &positions)
+            .unwrap()
+            .with_snr_db(15.0)
+            .unwrap()
+            .with_spacing(spacing)
+            .unwrap()
+            .with_seed(9)
+            .draw()
+            .unwrap();
+        let truth =
+            ArrayTruth::from_draw(&draw, 12, Some(15.0), SourceCorrelation::Uncorrelated, 9);
+        let est =
+            ArrayEstimate::assemble("test", &draw.data, &positions, finespike::Status::Solved)
+                .unwrap()
+                .noise(Some(1.0), false, None);
+        let axis = Axis {
+            spacing: Some(spacing),
+        };
+        let svg = render(
+            Path::new("scene.csv"),
+            &draw.data,
+            Some(&truth),
+            &est,
+            axis,
+            axis.full(),
+            1100,
+        )
+        .unwrap_or_else(|_| panic!("the figure could not be drawn"));
+        if let Ok(dir) = std::env::var("FINESPIKE_PLOT_DUMP") {
+            std::fs::write(format!("{dir}/array_{spacing}.svg"), &svg).unwrap();
+        }
+        svg
+    }
+
+    #[test]
+    fn the_figure_is_in_angle_and_says_when_angles_are_ambiguous() {
+        let svg = figure(0.5);
+        assert!(svg.starts_with("<svg"), "{}", &svg[..80]);
+        assert!(svg.contains("angle θ from broadside (degrees)"));
+        assert!(svg.contains("found 3, missed 0, spurious 0"));
+        assert!(svg.contains("No warnings."));
+        let svg = figure(0.8);
+        assert!(
+            svg.contains("WARNING: AMBIGUOUS ANGLES"),
+            "ambiguity is said in the caption"
+        );
     }
 }
