@@ -91,3 +91,71 @@ fn validation_errors() {
         Err(Error::NonFinite { index: 1, .. })
     ));
 }
+
+mod snapshot_records {
+    use super::super::{Snapshots, SENSOR_WORDS};
+    use crate::error::Error;
+    use nalgebra::DMatrix;
+    use num_complex::Complex64;
+
+    fn x(rows: usize, cols: usize) -> DMatrix<Complex64> {
+        DMatrix::from_fn(rows, cols, |m, t| Complex64::new(m as f64, t as f64))
+    }
+
+    #[test]
+    fn rows_are_stored_in_index_order_whatever_the_given_order() {
+        // Sensors given as 2, 0, 1: row i of the stored matrix belongs to indices()[i] = −m sorted.
+        let data = Snapshots::from_sensor_subset(&[2, 0, 1], &x(3, 2)).unwrap();
+        assert_eq!(data.indices(), &[-2, -1, 0]);
+        // Sensor 2 was given in row 0 (value 0 + i·t).
+        assert_eq!(data.values()[(0, 1)], Complex64::new(0.0, 1.0));
+        assert_eq!(data.values()[(2, 1)], Complex64::new(1.0, 1.0));
+        let one = data.snapshot(1).unwrap();
+        assert_eq!(one.values()[0], Complex64::new(0.0, 1.0));
+        assert!(data.snapshot(2).is_err());
+    }
+
+    #[test]
+    fn errors_name_the_sensor_and_the_snapshot() {
+        let mut bad = x(4, 3);
+        bad[(2, 1)] = Complex64::new(f64::NAN, 0.0);
+        let e = Snapshots::from_sensor_subset(&[10, 11, 12, 13], &bad).unwrap_err();
+        assert!(matches!(
+            e,
+            Error::NonFiniteSnapshot {
+                index: 12,
+                snapshot: 1,
+                ..
+            }
+        ));
+        assert!(e.to_string().contains("sensor m = 12, snapshot 1"), "{e}");
+        assert_eq!(
+            Snapshots::from_sensor_subset(&[0, 1, 1], &x(3, 1)).unwrap_err(),
+            Error::DuplicateIndex {
+                what: SENSOR_WORDS,
+                index: 1
+            }
+        );
+        assert!(matches!(
+            Snapshots::from_sensors(&x(3, 0)),
+            Err(Error::Empty { .. })
+        ));
+        assert!(matches!(
+            Snapshots::from_sensor_subset(&[0, 1], &x(3, 2)),
+            Err(Error::LengthMismatch { .. })
+        ));
+        assert!(Snapshots::from_sensors(&x(3, 2))
+            .unwrap()
+            .with_spacing(-0.5)
+            .is_err());
+    }
+
+    #[test]
+    fn sample_covariance_is_x_xh_over_l() {
+        let data = Snapshots::from_sensors(&x(3, 4)).unwrap();
+        let r = data.sample_covariance();
+        let v = data.values();
+        let want = v * v.adjoint() / Complex64::new(4.0, 0.0);
+        assert!((r - want).norm() < 1e-12);
+    }
+}
