@@ -10,13 +10,15 @@ use std::path::PathBuf;
 /// The flags that describe an invented scene (shared by `simulate` and the sweeps of `compare`).
 #[derive(Args, Debug, Clone)]
 pub struct SceneArgs {
-    /// Number of spikes.
+    /// Number of spikes (of sources, for `simulate --sensors`).
     #[arg(long, default_value_t = 3)]
     pub count: usize,
-    /// Separation of the closest pair in Rayleigh units (Δ·fc); the other gaps are random and larger.
+    /// Separation of the closest pair in Rayleigh units (Δ·fc), for `simulate --sensors` in
+    /// resolution cells (Δ·M); the other gaps are random and larger.
     #[arg(long, default_value_t = 2.0)]
     pub separation: f64,
-    /// Signal-to-noise ratio of the weakest spike in dB, 10·log10(min |a|² / σ²) (omitted: exact data).
+    /// Signal-to-noise ratio of the weakest spike in dB, 10·log10(min |a|² / σ²), for `simulate
+    /// --sensors` of every source, 10·log10(P/σ²) (omitted: exact data).
     #[arg(long)]
     pub snr: Option<f64>,
     /// How the amplitudes are drawn.
