@@ -171,3 +171,45 @@ fn truths_round_trip_and_give_the_bound_of_their_draw() {
     let e = parse_array_truth("{\"kind\": \"array\"}", "t.json").unwrap_err();
     assert!(e.to_string().contains("not an array truth"), "{e}");
 }
+
+#[test]
+fn array_results_carry_sources_with_their_snapshots_angles_and_bounds() {
+    let scene = ArrayScene::new(8, 3, &[0.1, -0.2])
+        .unwrap()
+        .with_snr_db(20.0)
+        .unwrap()
+        .with_seed(4);
+    for spacing in [None, Some(0.5)] {
+        let scene = match spacing {
+            Some(d) => scene.clone().with_spacing(d).unwrap(),
+            None => scene.clone(),
+        };
+        let draw = scene.draw().unwrap();
+        let est =
+            ArrayEstimate::assemble("test", &draw.data, &draw.positions, crate::Status::Solved)
+                .unwrap()
+                .noise(Some(1.0), false, None);
+        let v = array_estimate_json(&est, &draw.data);
+        assert_eq!(v["method"], "test");
+        assert_eq!(v["status"], "solved");
+        assert_eq!(v["resolution"], 0.125);
+        assert_eq!(v["array"]["measured"], json!([0, 1, 2, 3, 4, 5, 6, 7]));
+        let sources = v["sources"].as_array().unwrap();
+        assert_eq!(sources.len(), 2);
+        // Sorted by position: 0.1, then −0.2 (position 0.8).
+        let f = sources[1]["frequency"].as_f64().unwrap();
+        assert!((f + 0.2).abs() < 1e-12, "{f}");
+        for s in sources {
+            assert_eq!(s["amplitudes"].as_array().unwrap().len(), 3);
+            assert!(s["crb_std"].as_f64().unwrap() > 0.0);
+            assert!(s["power"].as_f64().unwrap() > 0.0);
+            assert_eq!(s.get("angle_deg").is_some(), spacing.is_some(), "{s}");
+        }
+        if spacing.is_some() {
+            // asin(−0.2/0.5) = −23.58°.
+            let a = sources[1]["angle_deg"].as_f64().unwrap();
+            assert!((a - (-0.4f64).asin().to_degrees()).abs() < 1e-9, "{a}");
+            assert!(sources[1]["crb_std_angle_deg"].as_f64().unwrap() > 0.0);
+        }
+    }
+}
