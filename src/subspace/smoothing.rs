@@ -30,9 +30,15 @@
 //! sources the subarray can hold (`M_s − 1`). A subarray of about 0.6 M is common practice for
 //! smoothed subspace methods, and near where the variance of smoothed MUSIC/ESPRIT estimates of
 //! coherent sources is lowest in published performance analyses (recalled, not checked against a
-//! particular paper). Its cost with uncorrelated sources is the lost aperture, measured in
-//! `tests/arrays_subspace.rs` (errors per source against the Cramér–Rao bound with and without
-//! smoothing); give [`Smoothing::None`] when the sources are known to be uncorrelated.
+//! particular paper). Measured on the four acceptance scenes (`tests/arrays_subspace.rs`,
+//! `sweep_acceptance_cases`, 200 draws each, order and σ estimated; RMS error over the conditional
+//! Cramér–Rao standard deviation): with the automatic subarray `esprit` and `pencil` stay at
+//! 1.06–1.24 and `music` at 1.18–1.36 in every scene, coherent pair included. Without smoothing
+//! (forward–backward averaging only) `esprit` and `pencil` are worse even with uncorrelated sources
+//! (1.39–2.06: the shift invariance of the full array uses `M − 1` of `M` rows, the smoothed
+//! covariance is better conditioned), while `music` gains with uncorrelated sources (0.95–1.06) and
+//! fails on the coherent pair in 26 of 200 draws. [`Smoothing::None`] therefore suits `music` with
+//! sources known to be uncorrelated; the default suits all three otherwise.
 
 use crate::error::{Error, Result};
 use nalgebra::DMatrix;
