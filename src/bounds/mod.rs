@@ -43,7 +43,7 @@
 //! (Page numbers and DOIs recalled from memory.)
 
 mod snapshots;
-pub use snapshots::conditional_crb;
+pub use snapshots::{conditional_crb, stochastic_crb};
 
 use crate::error::{Error, Result};
 use crate::model::{atom, Domain, Measurements, Spike, Spikes};
