@@ -1,7 +1,7 @@
 //! The horizontal axis of a plot and the stems drawn on it.
 
 use crate::show;
-use finespike::{Domain, Measurements, Spikes};
+use finespike::{Domain, Estimate, Measurements, Spikes};
 
 /// The horizontal axis: positions (cycles per sample, or fractions of the domain) mapped to the
 /// record's unit.
@@ -86,4 +86,18 @@ pub(super) fn stems(spikes: &Spikes, real: bool) -> Vec<(f64, f64)> {
             )
         })
         .collect()
+}
+
+/// The estimate's stems `(position, height)`: for a real record each line once with `|A|`, else
+/// the spikes.
+pub(super) fn shown_lines(data: &Measurements, est: &Estimate) -> Vec<(f64, f64)> {
+    if data.is_real() {
+        est.diagnostics
+            .lines
+            .iter()
+            .map(|l| (l.position, l.amplitude.norm()))
+            .collect()
+    } else {
+        stems(&est.spikes, false)
+    }
 }

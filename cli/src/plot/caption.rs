@@ -98,10 +98,21 @@ pub(super) fn caption(
         } else {
             &est_stems
         };
+        // As many decimals as tell the view's edges apart (a narrow view of a long record needs more
+        // than the four significant digits of the report).
+        let decimals = super::curve::tick_decimals(x1 - x0);
+        let view_edge = |x: f64| {
+            let text = format!("{x:.decimals$}");
+            if text.contains('.') {
+                text.trim_end_matches('0').trim_end_matches('.').to_string()
+            } else {
+                text
+            }
+        };
         let mut line = format!(
             "View {}..{} of {}..{}{}: {} of {} recovered lines shown",
-            num(x0),
-            num(x1),
+            view_edge(x0),
+            view_edge(x1),
             num(lo),
             num(hi),
             match show::unit(data) {
