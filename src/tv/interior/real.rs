@@ -38,6 +38,9 @@ use super::compact::{svec_index, Cone, ConicProgram, DualMap, Formulation};
 use num_complex::Complex64;
 use std::f64::consts::{FRAC_1_SQRT_2, SQRT_2};
 
+/// One entry `(index in the even or odd part, value)` of a basis vector.
+pub(crate) type Entry = (usize, f64);
+
 /// The mirror split of `ℝ^N` into even and odd vectors (module docs).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct MirrorSplit {
@@ -68,7 +71,7 @@ impl MirrorSplit {
 
     /// `(a, value)` of the even and of the odd vector that hold sample index `i` (the odd one is
     /// absent for the middle index of an odd `N`).
-    pub fn components(self, i: usize) -> (Option<(usize, f64)>, Option<(usize, f64)>) {
+    pub fn components(self, i: usize) -> (Option<Entry>, Option<Entry>) {
         let a = i.min(self.n - 1 - i);
         if 2 * i + 1 == self.n {
             return (Some((a, 1.0)), None);

@@ -6,13 +6,13 @@ use super::*;
 fn dense_p(split: MirrorSplit) -> Vec<Vec<f64>> {
     let n = split.n;
     let mut p = vec![vec![0.0; n]; n];
-    for i in 0..n {
+    for (i, row) in p.iter_mut().enumerate() {
         let (e, o) = split.components(i);
         if let Some((a, w)) = e {
-            p[i][a] = w;
+            row[a] = w;
         }
         if let Some((b, w)) = o {
-            p[i][split.even_len() + b] = w;
+            row[split.even_len() + b] = w;
         }
     }
     p
