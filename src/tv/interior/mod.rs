@@ -24,17 +24,17 @@ pub const INTERIOR_POINT: &str = "interior point (clarabel, compact SDP)";
 pub const INTERIOR_POINT_REAL: &str = "interior point (clarabel, real-symmetric SDP)";
 
 /// Longest band (`N = kmax − kmin + 1` coefficients) the interior point accepts for a complex
-/// record: `fc = 64`. Its memory grows like `N^3.8` and its time like `N^4`–`N^5` (measured on a
-/// 2-core machine, one process per run, peak resident memory: 280 MB and 3.8 s at `N = 65`, 3.8 GB
-/// and 259 s at `N = 129`, a real-valued record solved in the complex form), so `N = 257` would need
-/// about 50 GB. Longer bands are refused before anything is allocated.
+/// record: `fc = 64`. Its memory grows like `N^3.8` and its time like `N^5` (measured on the shared
+/// 2-core machine, one process per run of `recover --solver interior-point`, peak resident memory
+/// and CPU time: 280 MB and 3.5 s at `N = 65`, 3.8 GB and 140 s at `N = 129`, a real-valued record
+/// solved in the complex form), so `N = 257` would need about 50 GB. Longer bands are refused
+/// before anything is allocated.
 pub const MAX_BAND_LEN: usize = 129;
 
 /// Longest band the interior point accepts for a real-valued record, solved in the real-symmetric
 /// form (module `real`: two PSD blocks of about half the size): `fc = 96`. Measured the same way:
-/// 55 MB and 0.9 s at `N = 65`, 633 MB and 37 s at `N = 129` (memory like `N^3.6`), 3.0 GB at
-/// `N = 193` (minutes: 9.6 min wall on the shared, heavily loaded machine) — within the memory the
-/// complex form takes at [`MAX_BAND_LEN`].
+/// 55 MB and 0.5 s at `N = 65`, 633 MB and 20 s at `N = 129` (memory like `N^3.6`), 3.0 GB and
+/// 167 s at `N = 193` — within the memory and time the complex form takes at [`MAX_BAND_LEN`].
 pub const MAX_REAL_BAND_LEN: usize = 193;
 
 /// Memory the interior point is expected to need for a band of `n` coefficients, in MB (the power
