@@ -11,6 +11,12 @@
 //! (`sigma`) with the default settings (order and σ estimated) at N = 4096, 16 384 and 100 000, where
 //! the Hankel singular values are streamed and root-MUSIC takes its Newton path (10 samples each:
 //! about four minutes in all). Run one group with `cargo bench --bench subspace -- long_records`.
+//!
+//! Group `snapshots`: `esprit`, `pencil`, `music` on a multi-snapshot array record with the default
+//! settings (order by MDL, σ from the sample covariance, forward–backward averaging, smoothing over
+//! ⌈0.6 M⌉ sensors): an invented scene of M = 64 sensors, L = 1000 snapshots, 3 uncorrelated
+//! sources at 10 dB (`ArrayScene`, seed 1); and the two steps every method shares, the noise level
+//! alone (`sigma`) and the finishing `ArrayEstimate::assemble` at the true positions (`assemble`).
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion};
 use finespike::subspace::{
@@ -143,8 +149,50 @@ fn bench_long_records(c: &mut Criterion) {
     group.finish();
 }
 
+fn bench_snapshots(c: &mut Criterion) {
+    use finespike::eval::array_scene::ArrayScene;
+    use finespike::{estimate_snapshot_sigma, ArrayEstimate, Status};
+    let mut group = c.benchmark_group("snapshots");
+    group.sample_size(20);
+    let positions = [-0.3, 0.05, 0.27];
+    let draw = ArrayScene::new(64, 1000, &positions)
+        .and_then(|s| s.with_snr_db(10.0))
+        .map(|s| s.with_seed(1))
+        .and_then(|s| s.draw())
+        .expect("array scene");
+    let data = draw.data;
+    let methods: [(&str, Box<dyn Estimator>); 3] = [
+        ("esprit", Box::new(Esprit::default())),
+        ("pencil", Box::new(MatrixPencil::default())),
+        ("music", Box::new(Music::default())),
+    ];
+    for (label, est) in &methods {
+        group.bench_with_input(BenchmarkId::new(*label, "M64_L1000"), &data, |b, data| {
+            b.iter(|| black_box(est.estimate_snapshots(data).expect("snapshots")))
+        });
+    }
+    group.bench_with_input(BenchmarkId::new("sigma", "M64_L1000"), &data, |b, data| {
+        b.iter(|| black_box(estimate_snapshot_sigma(data).expect("noise level")))
+    });
+    group.bench_with_input(
+        BenchmarkId::new("assemble", "M64_L1000"),
+        &data,
+        |b, data| {
+            b.iter(|| {
+                black_box(
+                    ArrayEstimate::assemble("bench", data, &positions, Status::Solved)
+                        .expect("assemble")
+                        .noise(Some(1.0), false, None),
+                )
+            })
+        },
+    );
+    group.finish();
+}
+
 criterion_group!(
     benches,
+    bench_snapshots,
     bench_esprit,
     bench_pencil,
     bench_music,

@@ -66,7 +66,9 @@ pub use num_complex;
 pub use num_complex::Complex64;
 
 pub use batch::{estimate_batch, estimate_batch_with_progress};
-pub use bounds::{conditional_crb, crb, crb_for, single_tone_position_variance, Crb, SpikeBound};
+pub use bounds::{
+    conditional_crb, crb, crb_for, single_tone_position_variance, stochastic_crb, Crb, SpikeBound,
+};
 pub use dual::{Certificate, DualPolynomial};
 pub use error::{Error, Result};
 pub use estimator::{

@@ -32,7 +32,7 @@
 use crate::error::Result;
 use crate::estimator::{Line, Warning};
 use crate::model::{atom, wrap_distance, Domain, Measurements, Spikes};
-use faer::{Mat, Side};
+use faer::Mat;
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -172,24 +172,16 @@ fn position_std(
                 .map(|(u, v)| u.re * v.re + u.im * v.im)
                 .sum::<f64>()
     });
-    let d: Vec<f64> = (0..p).map(|i| fisher[(i, i)].sqrt()).collect();
-    if d.iter()
-        .any(|x| x.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater))
-    {
-        return Ok(vec![None; lines.len()]);
-    }
-    let scaled = Mat::<f64>::from_fn(p, p, |i, j| fisher[(i, j)] / (d[i] * d[j]));
-    let Ok(chol) = scaled.llt(Side::Lower) else {
+    let Ok(inverse) = crate::bounds::ScaledInverse::new(&fisher) else {
         return Ok(vec![None; lines.len()]);
     };
-    let inv = faer::linalg::solvers::DenseSolveCore::inverse(&chol);
     // σ scales the position bound linearly; amplitudes were divided by `amax`, so σ is too.
     let s = sigma / amax;
     Ok(freq_col
         .iter()
         .map(|c| {
             c.and_then(|c| {
-                let v = inv[(c, c)] / (d[c] * d[c]);
+                let v = inverse.cov(c, c);
                 (v.is_finite() && v >= 0.0).then(|| s * v.sqrt())
             })
         })

@@ -169,3 +169,80 @@ fn plot_axis_is_in_the_records_unit() {
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).contains("0 <= FROM < TO <= 500 (Hz)"));
 }
+
+/// A long record (invented: 3 lines, the closest pair 2/fc = 4 resolution cells apart, N = 8192,
+/// exact data): by default the view zooms on the closest pair, which would fall within three pixels
+/// at the whole view, the top panel is in decibels, the tick labels and the caption carry the
+/// digits that tell the view's edges apart, and the drawing stays small (one envelope point pair
+/// per pixel column, not one per grid point).
+#[test]
+fn plot_of_a_long_record_zooms_on_the_closest_pair_in_decibels() {
+    let dir = tmpdir("plot-long");
+    let (csv, truth) = simulate(
+        &dir,
+        "long",
+        &[
+            "--samples",
+            "8192",
+            "--count",
+            "3",
+            "--separation",
+            "2",
+            "--seed",
+            "2",
+        ],
+    );
+    let zoomed = dir.join("zoomed.svg");
+    ok(&run(&[
+        "plot",
+        "-i",
+        s(&csv),
+        "--truth",
+        s(&truth),
+        "--sigma",
+        "0",
+        "-o",
+        s(&zoomed),
+    ]));
+    let svg = std::fs::read_to_string(&zoomed).unwrap();
+    check_svg(&svg);
+    assert!(
+        svg.contains("modulus (dB: 20·log10)"),
+        "decibels from 4096 samples on"
+    );
+    assert!(
+        svg.contains("2 of 3 recovered lines shown"),
+        "the closest pair only"
+    );
+    // View edges with six decimals (the view is about 40 cells = 0.005 cycles/sample wide).
+    let caption = svg
+        .split("View ")
+        .nth(1)
+        .expect("the caption names the view");
+    let edge = caption.split("..").next().unwrap();
+    assert!(
+        edge.split('.').nth(1).is_some_and(|d| d.len() >= 4),
+        "{edge}"
+    );
+    // The whole view on request, on a linear scale: the bar is drawn two pixels wide and says so.
+    let whole = dir.join("whole.svg");
+    ok(&run(&[
+        "plot",
+        "-i",
+        s(&csv),
+        "--sigma",
+        "0",
+        "--view",
+        "whole",
+        "--levels",
+        "linear",
+        "-o",
+        s(&whole),
+    ]));
+    let svg = std::fs::read_to_string(&whole).unwrap();
+    check_svg(&svg);
+    assert!(!svg.contains("View ") && !svg.contains("dB"));
+    assert!(svg.contains("bar drawn 2 pixels wide"));
+    // About 2 envelope points per pixel column and panel, not the 2^17 grid points.
+    assert!(svg.len() < 150_000, "{} bytes", svg.len());
+}

@@ -43,7 +43,7 @@
 //! (Page numbers and DOIs recalled from memory.)
 
 mod snapshots;
-pub use snapshots::conditional_crb;
+pub use snapshots::{conditional_crb, stochastic_crb};
 
 use crate::error::{Error, Result};
 use crate::model::{atom, Domain, Measurements, Spike, Spikes};
@@ -228,6 +228,55 @@ pub(crate) fn unit_fisher(indices: &[i64], spikes: &Spikes) -> Mat<f64> {
     f
 }
 
+/// The inverse of a Fisher matrix `F` through Jacobi scaling: `S = D^{-1/2} F D^{-1/2}` has a unit
+/// diagonal, its condition number measures how far the parameters are from identifiable independently
+/// of their units, and `F⁻¹ = D^{-1/2} S⁻¹ D^{-1/2}` (Cholesky, relative error about `κ(S)·ε`, Higham
+/// 2002, *Accuracy and Stability of Numerical Algorithms*, §10.1). The one inversion behind every
+/// Cramér–Rao bound of the crate (here and in [`crate::lines`]).
+pub(crate) struct ScaledInverse {
+    inv: Mat<f64>,
+    d: Vec<f64>,
+}
+
+impl ScaledInverse {
+    /// Invert `f`; `Err` with the reason when it is singular to working precision (scaled condition
+    /// above [`MAX_SCALED_FISHER_CONDITION`]) or not positive definite.
+    pub(crate) fn new(f: &Mat<f64>) -> std::result::Result<Self, String> {
+        let p = f.nrows();
+        let d: Vec<f64> = (0..p).map(|i| f[(i, i)].sqrt()).collect();
+        if d.iter().any(|x| !(*x > 0.0 && x.is_finite())) {
+            return Err(
+                "a parameter has no information (zero diagonal of the Fisher matrix)".into(),
+            );
+        }
+        let scaled = Mat::<f64>::from_fn(p, p, |a, b| f[(a, b)] / (d[a] * d[b]));
+        let eig = scaled
+            .self_adjoint_eigenvalues(Side::Lower)
+            .map_err(|e| format!("eigenvalues of the scaled Fisher matrix failed: {e:?}"))?;
+        // Eigenvalues come sorted ascending (faer contract); use min/max anyway to not depend on it.
+        let lmin = eig.iter().copied().fold(f64::INFINITY, f64::min);
+        let lmax = eig.iter().copied().fold(0.0, f64::max);
+        if !(lmin > 0.0 && lmax / lmin <= MAX_SCALED_FISHER_CONDITION) {
+            return Err(format!(
+                "the Fisher matrix is singular to working precision (smallest/largest eigenvalue of \
+                 the scaled matrix {:.3e}, limit {:.0e})",
+                lmin / lmax,
+                1.0 / MAX_SCALED_FISHER_CONDITION
+            ));
+        }
+        let chol = scaled
+            .llt(Side::Lower)
+            .map_err(|e| format!("Cholesky factorisation failed: {e:?}"))?;
+        let inv = faer::linalg::solvers::DenseSolveCore::inverse(&chol);
+        Ok(ScaledInverse { inv, d })
+    }
+
+    /// Entry `(a, b)` of `F⁻¹`.
+    pub(crate) fn cov(&self, a: usize, b: usize) -> f64 {
+        self.inv[(a, b)] / (self.d[a] * self.d[b])
+    }
+}
+
 fn crb_checked(indices: &[i64], fc: f64, spikes: &Spikes, sigma: f64) -> Result<Crb> {
     check_sigma(sigma)?;
     if spikes.is_empty() {
@@ -270,36 +319,15 @@ fn crb_checked(indices: &[i64], fc: f64, spikes: &Spikes, sigma: f64) -> Result<
         step: "Cramér–Rao bound (Fisher matrix inversion)",
         detail,
     };
-    // Jacobi scaling: S = D^{-1/2} F D^{-1/2} has unit diagonal; its condition number measures how far
-    // the parameters are from being identifiable, independently of their units.
-    let d: Vec<f64> = (0..p).map(|i| f[(i, i)].sqrt()).collect();
-    let scaled = Mat::<f64>::from_fn(p, p, |a, b| f[(a, b)] / (d[a] * d[b]));
-    let eig = scaled.self_adjoint_eigenvalues(Side::Lower).map_err(|e| {
+    let inverse = ScaledInverse::new(&f).map_err(|detail| {
         singular(format!(
-            "eigenvalues of the scaled Fisher matrix failed: {e:?}"
-        ))
-    })?;
-    // Eigenvalues come sorted ascending (faer contract); use min/max anyway to not depend on it.
-    let lmin = eig.iter().copied().fold(f64::INFINITY, f64::min);
-    let lmax = eig.iter().copied().fold(0.0, f64::max);
-    if !(lmin > 0.0 && lmax / lmin <= MAX_SCALED_FISHER_CONDITION) {
-        return Err(singular(format!(
-            "the Fisher matrix is singular to working precision (smallest/largest eigenvalue of the \
-             scaled matrix {:.3e}, limit {:.0e}): spikes coincide or are too close to be told apart \
-             ({} spikes, minimum separation {:.3e}·(1/fc))",
-            lmin / lmax,
-            1.0 / MAX_SCALED_FISHER_CONDITION,
+            "{detail}: spikes coincide or are too close to be told apart ({} spikes, minimum \
+             separation {:.3e}·(1/fc))",
             s,
             spikes.min_separation() * fc
-        )));
-    }
-    let inv_scaled = scaled
-        .llt(Side::Lower)
-        .map_err(|e| singular(format!("Cholesky factorisation failed: {e:?}")))?;
-    let inv_scaled = faer::linalg::solvers::DenseSolveCore::inverse(&inv_scaled);
-    // Covariance bound C = σ² D^{-1/2} S^{-1} D^{-1/2}; kept at σ = 1 here and σ applied to the standard
-    // deviations, so that no σ² can overflow or underflow.
-    let cov = |a: usize, b: usize| inv_scaled[(a, b)] / (d[a] * d[b]);
+        ))
+    })?;
+    let cov = |a: usize, b: usize| inverse.cov(a, b);
 
     let fisher_eig = f
         .self_adjoint_eigenvalues(Side::Lower)

@@ -10,6 +10,23 @@
 //!
 //! with `D = [∂a(f_1)/∂f_1, …]` and `Π⊥ = I − A(AᴴA)⁻¹Aᴴ`. For one source and `L = 1` it is the
 //! single-tone bound `6σ²/((2π)²|a|²N(N² − 1))` (Rife & Boorstyn 1974, IEEE TIT 20(5)).
+//!
+//! The stochastic (unconditional) bound treats the amplitudes as circular Gaussian with covariance
+//! `P` (`x_t ~ CN(0, R)`, `R = A P Aᴴ + σ² I`, `P` and `σ²` unknown) (Stoica & Nehorai 1990, IEEE
+//! TASSP 38(10), 1783–1795, the concentrated bound of their section on the unconditional model;
+//! equation number not recalled):
+//!
+//! ```text
+//!   CRB_sto(f) = σ²/(2L) · { Re[ (Dᴴ Π⊥ D) ⊙ (P Aᴴ R⁻¹ A P)ᵀ ] }⁻¹  ⪰  CRB_det at P̂ = P,
+//! ```
+//!
+//! which maximum likelihood attains as `L → ∞`. `Aᴴ R⁻¹ A` is formed without the `|K| × |K|`
+//! inverse: `R A = A (P G + σ² I)` with `G = AᴴA`, so `Aᴴ R⁻¹ A = G (P G + σ² I)⁻¹` (an `s × s`
+//! solve; `P G + σ² I` is invertible for `σ > 0` because the eigenvalues of `P G` are those of the
+//! positive semidefinite `G^{1/2} P G^{1/2}`).
+//!
+//! Both are checked in `tests/array_bounds.rs` against a full Fisher-information (Slepian–Bangs)
+//! evaluation in numpy (`tests/refdata/arrays/make_crb.py`) and the research notes' check values.
 
 use crate::error::{Error, Result};
 use crate::model::Snapshots;
@@ -42,6 +59,76 @@ pub fn conditional_crb(
         return Ok(Vec::new());
     }
     let l = data.snapshot_count() as f64;
+    let (_, h) = projected_derivatives(data, positions)?;
+    let p = (amplitudes * amplitudes.adjoint()).unscale(l);
+    let fisher = DMatrix::from_fn(s, s, |i, j| (h[(i, j)] * p[(j, i)]).re * 2.0 * l);
+    let inv = Cholesky::new(fisher)
+        .ok_or_else(|| singular("the Fisher matrix"))?
+        .inverse();
+    Ok((0..s).map(|i| sigma * sigma * inv[(i, i)]).collect())
+}
+
+/// The stochastic Cramér–Rao variances of the positions `positions` (cycles per sensor, squared) for
+/// the source covariance `source_covariance` (`P`, `s × s`, Hermitian positive semidefinite) and noise
+/// level `sigma`, with the snapshot count and index set of `data` (module docs; Stoica & Nehorai
+/// 1990, IEEE TASSP 38(10)).
+///
+/// # Errors
+/// [`Error::LengthMismatch`] when `P` is not `s × s`; [`Error::InvalidSetting`] for a `sigma` that
+/// is not finite and positive (the bound needs noise: with `σ = 0` and a singular `P` it does not
+/// exist); [`Error::Numerical`] when the Fisher matrix is singular (coincident positions, a source
+/// of zero power).
+pub fn stochastic_crb(
+    data: &Snapshots,
+    positions: &[f64],
+    source_covariance: &DMatrix<Complex64>,
+    sigma: f64,
+) -> Result<Vec<f64>> {
+    let s = positions.len();
+    if source_covariance.nrows() != s || source_covariance.ncols() != s {
+        return Err(Error::LengthMismatch {
+            what: "source covariance rows and columns against positions",
+            left: source_covariance.nrows().max(source_covariance.ncols()),
+            right: s,
+        });
+    }
+    if !(sigma.is_finite() && sigma > 0.0) {
+        return Err(Error::InvalidSetting {
+            name: "sigma",
+            value: sigma.to_string(),
+            rule: "the stochastic Cramér–Rao bound needs a finite, positive noise level",
+        });
+    }
+    if s == 0 {
+        return Ok(Vec::new());
+    }
+    let l = data.snapshot_count() as f64;
+    let (a, h) = projected_derivatives(data, positions)?;
+    let p = source_covariance;
+    let gram = a.adjoint() * &a;
+    // Aᴴ R⁻¹ A = G (P G + σ² I)⁻¹, so B = P Aᴴ R⁻¹ A P = P G (P G + σ² I)⁻¹ P.
+    let mut pg = p * &gram;
+    for i in 0..s {
+        pg[(i, i)] += Complex64::new(sigma * sigma, 0.0);
+    }
+    // (P G + σ²I)⁻¹ P: solve (P G + σ²I) Y = P.
+    let y = pg.lu().solve(p).ok_or_else(|| singular("P G + σ² I"))?;
+    let b = p * gram * y;
+    let fisher = DMatrix::from_fn(s, s, |i, j| (h[(i, j)] * b[(j, i)]).re * 2.0 * l);
+    // Symmetrise the rounding before the Cholesky factorisation.
+    let fisher = (&fisher + fisher.transpose()).unscale(2.0);
+    let inv = Cholesky::new(fisher)
+        .ok_or_else(|| singular("the Fisher matrix"))?
+        .inverse();
+    Ok((0..s).map(|i| sigma * sigma * inv[(i, i)]).collect())
+}
+
+/// The steering matrix `A` and `H = Dᴴ Π⊥ D` of `positions` on the index set of `data`.
+fn projected_derivatives(
+    data: &Snapshots,
+    positions: &[f64],
+) -> Result<(DMatrix<Complex64>, DMatrix<Complex64>)> {
+    let s = positions.len();
     let a = data.steering(positions);
     let idx = data.indices();
     // ∂/∂f of exp(−i2πkf) is −i2πk exp(−i2πkf).
@@ -53,12 +140,7 @@ pub fn conditional_crb(
     // Π⊥ D = D − A (AᴴA)⁻¹ Aᴴ D.
     let proj = &d - &a * chol.solve(&(a.adjoint() * &d));
     let h = d.adjoint() * proj;
-    let p = (amplitudes * amplitudes.adjoint()).unscale(l);
-    let fisher = DMatrix::from_fn(s, s, |i, j| (h[(i, j)] * p[(j, i)]).re * 2.0 * l);
-    let inv = Cholesky::new(fisher)
-        .ok_or_else(|| singular("the Fisher matrix"))?
-        .inverse();
-    Ok((0..s).map(|i| sigma * sigma * inv[(i, i)]).collect())
+    Ok((a, h))
 }
 
 fn singular(what: &str) -> Error {

@@ -40,6 +40,11 @@ pub struct Source {
     pub crb_std_position: Option<f64>,
     /// The same for the angle, in degrees (`std θ = std f / (d cos θ)`), when the angle is known.
     pub crb_std_angle_deg: Option<f64>,
+    /// Stochastic Cramér–Rao standard deviation of the position (cycles per sensor): amplitudes taken
+    /// as circular Gaussian with the sample source covariance `P̂ = ŜŜᴴ/L` of the estimate, and the
+    /// noise level used, as truth ([`crate::stochastic_crb`], Stoica & Nehorai 1990). At least the
+    /// deterministic figure; the one a large-`L` maximum-likelihood estimator attains.
+    pub crb_std_stochastic: Option<f64>,
 }
 
 /// How an array estimate went and how far to trust it.
@@ -162,6 +167,7 @@ impl ArrayEstimate {
                     amplitudes: row,
                     crb_std_position: None,
                     crb_std_angle_deg: None,
+                    crb_std_stochastic: None,
                 }
             })
             .collect();
@@ -275,7 +281,8 @@ impl ArrayAssembly<'_> {
 
     /// Finish with the noise level used (`None`: exact data or unknown), whether it was estimated and
     /// how: the residual check (as for single records: warn beyond three standard deviations of the
-    /// χ² ratio) and the deterministic Cramér–Rao bound of every position and angle.
+    /// χ² ratio), the deterministic Cramér–Rao bound of every position and angle, and the
+    /// stochastic bound of every position (with `P̂ = ŜŜᴴ/L`).
     pub fn noise(
         mut self,
         sigma: Option<f64>,
@@ -311,6 +318,12 @@ impl ArrayAssembly<'_> {
                     let c = theta.to_radians().cos();
                     src.crb_std_angle_deg = (c > 0.0).then(|| (sd / (d * c)).to_degrees());
                 }
+            }
+        }
+        let p = (&self.amplitudes * self.amplitudes.adjoint()).unscale(l);
+        if let Ok(var) = crate::bounds::stochastic_crb(self.data, &self.positions, &p, s) {
+            for (src, v) in self.estimate.sources.iter_mut().zip(var) {
+                src.crb_std_stochastic = Some(v.sqrt());
             }
         }
         self.estimate

@@ -22,6 +22,10 @@
 //!
 //! A measured set with gaps is not supported (there is no Hankel structure to exploit): use `sdp`.
 //!
+//! Multi-snapshot records ([`crate::Snapshots`], [`crate::Estimator::estimate_snapshots`]) are
+//! handled in `snapshots.rs`: the same three methods on the forward–backward averaged, spatially
+//! smoothed sample covariance (`smoothing.rs`, setting [`SubspaceSettings::smoothing`]).
+//!
 //! ## One Hankel analysis per estimate, long records, limits
 //!
 //! The singular values that choose the order (a forward Hankel matrix of at most
@@ -69,6 +73,8 @@ mod esprit;
 mod music;
 pub(crate) mod order;
 mod pencil;
+mod smoothing;
+mod snapshots;
 
 pub use crate::kernels::budget::{MEMORY_LIMIT_BYTES, WORK_LIMIT};
 pub use crate::kernels::hankel::{Decomposition, DENSE_MAX};
@@ -78,6 +84,7 @@ pub use esprit::Esprit;
 pub use music::{pseudospectrum, Music, Pseudospectrum, COMPANION_MAX_DEGREE};
 pub use order::{aic, mdl, ModelOrder, OrderMethod, OrderSelection};
 pub use pencil::MatrixPencil;
+pub use smoothing::Smoothing;
 
 use crate::error::{check, Error, Result};
 use crate::estimator::{Diagnostics, Estimate, NoiseLevel, Status, Warning};
@@ -104,9 +111,14 @@ pub struct SubspaceSettings {
     /// `None` (the default): `L = ⌊N/2⌋ + 1`, the square (or nearly square) matrix that allows the most
     /// spikes, `⌊N/2⌋`.
     pub window: Option<usize>,
-    /// Forward–backward averaging: use `[H, J H̄ J]` instead of `H` (default true). Valid because the
-    /// exponentials are undamped, `|z_j| = 1`.
+    /// Forward–backward averaging: use `[H, J H̄ J]` instead of `H` (default true); with many
+    /// snapshots, `(R̂ + J R̂̄ J)/2` instead of the sample covariance `R̂` (Pillai & Kwon 1989, IEEE
+    /// TASSP 37(1)). Valid because the exponentials are undamped, `|z_j| = 1`.
     pub forward_backward: bool,
+    /// Spatial smoothing of the sample covariance of a multi-snapshot record (default
+    /// [`Smoothing::Auto`]: subarrays of `⌈0.6 M⌉` sensors, so that coherent sources are resolved;
+    /// see the `smoothing` module docs). Not used for a single record.
+    pub smoothing: Smoothing,
     /// How the model order is chosen (default [`OrderSelection::Auto`]: numerical rank for exact data,
     /// MDL otherwise).
     pub order: OrderSelection,
@@ -151,6 +163,7 @@ impl Default for SubspaceSettings {
         SubspaceSettings {
             window: None,
             forward_backward: true,
+            smoothing: Smoothing::Auto,
             order: OrderSelection::Auto,
             max_order: None,
             order_window: 256,
@@ -193,6 +206,16 @@ impl SubspaceSettings {
     pub fn with_forward_backward(mut self, on: bool) -> Self {
         self.forward_backward = on;
         self
+    }
+
+    /// Set the spatial smoothing of multi-snapshot records.
+    ///
+    /// # Errors
+    /// [`Error::InvalidSetting`] for a subarray of fewer than 2 sensors (a subarray larger than the
+    /// array is refused when estimating).
+    pub fn with_smoothing(mut self, smoothing: Smoothing) -> Result<Self> {
+        self.smoothing = smoothing.validated()?;
+        Ok(self)
     }
 
     /// Set how the model order is chosen.

@@ -41,10 +41,10 @@
 
 use super::{prepare, run, Baseline, ModelOrder, SubspaceSettings};
 use crate::error::{Error, Result};
-use crate::estimator::{Estimate, Estimator};
+use crate::estimator::{ArrayEstimate, Estimate, Estimator};
 use crate::kernels::budget::Cost;
 use crate::kernels::hankel::numerical;
-use crate::model::Measurements;
+use crate::model::{Measurements, Snapshots};
 use faer::{c64, Mat, MatRef};
 use rustfft::FftPlanner;
 use std::f64::consts::PI;
@@ -92,6 +92,18 @@ impl Estimator for Music {
     /// As [`Esprit`](super::Esprit).
     fn estimate(&self, data: &Measurements) -> Result<Estimate> {
         run(Baseline::Music, &self.settings, data)
+    }
+
+    /// Many snapshots of a full uniform array: the method on the forward–backward averaged,
+    /// spatially smoothed sample covariance (module docs of `subspace::snapshots`); one snapshot:
+    /// [`Estimator::estimate`] on it.
+    ///
+    /// # Errors
+    /// [`crate::Error::NeedsContiguous`] for missing sensors (naming `sdp`),
+    /// [`crate::Error::InvalidSetting`] for a subarray or given order the array cannot support,
+    /// [`crate::Error::TooLarge`] past the memory and work limits.
+    fn estimate_snapshots(&self, data: &Snapshots) -> Result<ArrayEstimate> {
+        super::snapshots::run(Baseline::Music, &self.settings, data)
     }
 }
 

@@ -17,9 +17,9 @@
 
 use super::{run, Baseline, SubspaceSettings};
 use crate::error::Result;
-use crate::estimator::{Estimate, Estimator};
+use crate::estimator::{ArrayEstimate, Estimate, Estimator};
 use crate::kernels::hankel::numerical;
-use crate::model::Measurements;
+use crate::model::{Measurements, Snapshots};
 use faer::linalg::solvers::SolveLstsqCore;
 use faer::{c64, Conj, Mat, MatRef};
 
@@ -69,6 +69,18 @@ impl Estimator for MatrixPencil {
     /// As [`Esprit`](super::Esprit).
     fn estimate(&self, data: &Measurements) -> Result<Estimate> {
         run(Baseline::Pencil, &self.settings, data)
+    }
+
+    /// Many snapshots of a full uniform array: the method on the forward–backward averaged,
+    /// spatially smoothed sample covariance (module docs of `subspace::snapshots`); one snapshot:
+    /// [`Estimator::estimate`] on it.
+    ///
+    /// # Errors
+    /// [`crate::Error::NeedsContiguous`] for missing sensors (naming `sdp`),
+    /// [`crate::Error::InvalidSetting`] for a subarray or given order the array cannot support,
+    /// [`crate::Error::TooLarge`] past the memory and work limits.
+    fn estimate_snapshots(&self, data: &Snapshots) -> Result<ArrayEstimate> {
+        super::snapshots::run(Baseline::Pencil, &self.settings, data)
     }
 }
 

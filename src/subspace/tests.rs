@@ -77,3 +77,26 @@ fn settings_are_checked() {
     assert!(s.with_order(OrderSelection::Given(0)).is_err());
     assert_eq!(s.with_window(5).unwrap().window, Some(5));
 }
+
+#[test]
+fn snapshot_pruning_drops_what_the_noise_cannot_support() {
+    use crate::eval::array_scene::ArrayScene;
+    // Two sources at 10 dB on 16 sensors, 30 snapshots, σ = 1, and a third candidate position
+    // where there is nothing: its residual rise is σ² times a Gamma(30, 1) draw, far below the
+    // threshold σ²(√30 + 3)² ≈ 72σ²; the true sources' rises are about M·L·P = 4800σ².
+    let draw = ArrayScene::new(16, 30, &[0.1, 0.35])
+        .unwrap()
+        .with_snr_db(10.0)
+        .unwrap()
+        .with_seed(9)
+        .draw()
+        .unwrap();
+    let kept = snapshots::prune(&draw.data, vec![0.1, 0.35, 0.72], 1.0).unwrap();
+    assert_eq!(kept, vec![0.1, 0.35]);
+    // Coincident candidates: one of the pair goes.
+    let kept = snapshots::prune(&draw.data, vec![0.1, 0.1, 0.35], 1.0).unwrap();
+    assert_eq!(kept.len(), 2);
+    // With a noise level far above the data, nothing stands.
+    let kept = snapshots::prune(&draw.data, vec![0.1, 0.35], 100.0).unwrap();
+    assert!(kept.is_empty());
+}

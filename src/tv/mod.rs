@@ -34,7 +34,8 @@
 //! # The solvers ([`Backend`])
 //!
 //! - [`interior`]: clarabel's interior point on the dual SDP in a compact real form (one PSD block of
-//!   size `N + 2`); cost grows like `N⁵`–`N⁶` in the band length `N`.
+//!   size `N + 2`; for a real-valued record two real symmetric blocks of sizes `⌈N/2⌉ + 1` and
+//!   `⌊N/2⌋ + 1`); cost grows like `N⁵`–`N⁶` in the band length `N`.
 //! - [`sliding`]: the certified Sliding Frank–Wolfe solver over measures (Denoyelle, Duval, Peyré &
 //!   Soubies 2019, Inverse Problems 36(1)), `O(N log N)` per iteration, certified by the dual
 //!   polynomial on the whole torus.

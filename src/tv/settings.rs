@@ -46,6 +46,10 @@ pub struct InteriorPointSettings {
     /// A maximum of the dual polynomial `|q|` is a support point when `|q| ≥ 1 − support_tolerance`
     /// (default 1e-4).
     pub support_tolerance: f64,
+    /// Solve a real-valued record's problem in the real-symmetric form (two PSD blocks of about half
+    /// the size; same optimum, about a sixth of the memory and time at `N = 129`) instead of the
+    /// complex compact form (default `true`; `false` is for comparisons).
+    pub real_symmetric: bool,
 }
 
 impl Default for InteriorPointSettings {
@@ -54,6 +58,7 @@ impl Default for InteriorPointSettings {
             max_iter: 100,
             tolerance: 1e-8,
             support_tolerance: 1e-4,
+            real_symmetric: true,
         }
     }
 }
@@ -97,15 +102,23 @@ impl InteriorPointSettings {
         Ok(self)
     }
 
+    /// Choose the real-symmetric form for real-valued records (`true`, the default) or the complex
+    /// compact form (`false`).
+    pub fn with_real_symmetric(mut self, real_symmetric: bool) -> Self {
+        self.real_symmetric = real_symmetric;
+        self
+    }
+
     /// Every setting checked (fields can be written directly).
     ///
     /// # Errors
     /// As the setters.
     pub fn validated(self) -> Result<Self> {
-        Self::default()
+        Ok(Self::default()
             .with_max_iter(self.max_iter)?
             .with_tolerance(self.tolerance)?
-            .with_support_tolerance(self.support_tolerance)
+            .with_support_tolerance(self.support_tolerance)?
+            .with_real_symmetric(self.real_symmetric))
     }
 }
 

@@ -187,8 +187,17 @@ pub(crate) struct ConicProgram {
     pub cones: Vec<Cone>,
     /// Objective weight `γ` on `u₀ + t₁ + t₂`.
     pub gamma: f64,
-    /// The unitary used.
-    pub unitary: CentroUnitary,
+    /// How the dual vector is read from the solver's dual variable.
+    pub dual_map: DualMap,
+}
+
+/// How [`ConicProgram::dual_coefficients`] reads the dual vector back.
+#[derive(Debug, Clone)]
+pub(crate) enum DualMap {
+    /// The complex compact form with its centro-Hermitian unitary (this module).
+    Hermitian(CentroUnitary),
+    /// The real-symmetric form of a real record ([`super::real`]).
+    Symmetric(super::real::MirrorSplit),
 }
 
 /// Index of `(row, col)` (row ≤ col) in clarabel's svec: upper triangle, column by column.
@@ -337,19 +346,26 @@ impl ConicProgram {
             b,
             cones,
             gamma,
-            unitary,
+            dual_map: DualMap::Hermitian(unitary),
         }
     }
 
     /// The dual vector `c` (on the shifted band `0..n`) from clarabel's dual variable `z` (svec of `Z`
     /// first): `c = −U (w_a + i w_b) / γ` with `w_a = Z[0..n, n]`, `w_b = Z[0..n, n+1]`.
+    /// For the real-symmetric form, [`super::real::dual_coefficients`].
     pub fn dual_coefficients(&self, z: &[f64]) -> Vec<Complex64> {
+        let unitary = match &self.dual_map {
+            DualMap::Hermitian(u) => u,
+            DualMap::Symmetric(split) => {
+                return super::real::dual_coefficients(*split, self.gamma, z)
+            }
+        };
         let n = self.n;
         let inv = std::f64::consts::FRAC_1_SQRT_2;
         let w: Vec<Complex64> = (0..n)
             .map(|row| Complex64::new(z[svec_index(row, n)] * inv, z[svec_index(row, n + 1)] * inv))
             .collect();
-        self.unitary
+        unitary
             .apply(&w)
             .into_iter()
             .map(|v| -v / self.gamma)
