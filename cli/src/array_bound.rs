@@ -19,6 +19,10 @@ struct Row {
     std_f: f64,
     /// The same in degrees, with a spacing and inside the visible region.
     std_angle: Option<f64>,
+    /// The stochastic bound of the spatial frequency, cycles per sensor.
+    std_sto: Option<f64>,
+    /// The same in degrees.
+    std_angle_sto: Option<f64>,
 }
 
 /// `std θ = std f / (d cos θ)` in degrees (from `f = d sin θ`), for `|θ| < 90°`.
@@ -58,11 +62,17 @@ pub fn run(
     let var =
         finespike::conditional_crb(&data, &truth.positions(), &truth.amplitude_matrix(), sigma)
             .map_err(Failure::Input)?;
+    // The stochastic bound for the scene's source covariance (None where it does not exist).
+    let sto: Vec<Option<f64>> = match truth.stochastic_crb(sigma) {
+        Ok(v) => v.iter().map(|x| Some(x.sqrt())).collect(),
+        Err(_) => vec![None; var.len()],
+    };
     let rows: Vec<Row> = truth
         .sources
         .iter()
         .zip(&var)
-        .map(|(s, v)| {
+        .zip(&sto)
+        .map(|((s, v), st)| {
             let angle_deg = d
                 .filter(|d| s.frequency.abs() <= *d)
                 .map(|d| (s.frequency / d).asin().to_degrees());
@@ -73,6 +83,8 @@ pub fn run(
                 sample_power: s.sample_power,
                 std_f: v.sqrt(),
                 std_angle: angle_std(v.sqrt(), d, angle_deg),
+                std_sto: *st,
+                std_angle_sto: st.and_then(|x| angle_std(x, d, angle_deg)),
             }
         })
         .collect();
@@ -90,12 +102,14 @@ pub fn run(
                         "crb_std": r.std_f,
                         "crb_std_cells": r.std_f * m,
                         "crb_std_angle_deg": r.std_angle,
+                        "crb_std_stochastic": r.std_sto,
+                        "crb_std_stochastic_angle_deg": r.std_angle_sto,
                     })
                 })
                 .collect();
             serde_json::to_string_pretty(&json!({
                 "truth": shown(path),
-                "bound": "conditional",
+                "bound": "conditional (Stoica & Nehorai 1989) and stochastic (1990)",
                 "sigma": sigma,
                 "sensors": truth.sensors,
                 "measured": data.len(),
@@ -108,19 +122,22 @@ pub fn run(
         }
         ReportFormat::Csv => {
             let mut out = String::from(
-                "frequency,angle_deg,power,sample_power,crb_std,crb_std_cells,crb_std_angle_deg\n",
+                "frequency,angle_deg,power,sample_power,crb_std,crb_std_cells,crb_std_angle_deg,\
+                 crb_std_stochastic,crb_std_stochastic_angle_deg\n",
             );
             let opt = |x: Option<f64>| x.map_or_else(String::new, exact);
             for r in &rows {
                 out.push_str(&format!(
-                    "{},{},{},{},{},{},{}\n",
+                    "{},{},{},{},{},{},{},{},{}\n",
                     exact(r.frequency),
                     opt(r.angle_deg),
                     exact(r.power),
                     exact(r.sample_power),
                     exact(r.std_f),
                     exact(r.std_f * m),
-                    opt(r.std_angle)
+                    opt(r.std_angle),
+                    opt(r.std_sto),
+                    opt(r.std_angle_sto)
                 ));
             }
             out
@@ -134,8 +151,9 @@ pub fn run(
 fn text(path: &Path, truth: &ArrayTruth, data: &Snapshots, sigma: f64, rows: &[Row]) -> String {
     let m = data.band_len() as f64;
     let mut out = format!(
-        "Cramér–Rao bound for the {} sources of {} (conditional bound for the drawn amplitudes, \
-         Stoica & Nehorai 1989)\narray: {}\nnoise: σ = {} (E|n|² = σ² per sensor and snapshot)\n",
+        "Cramér–Rao bounds for the {} sources of {}: conditional for the drawn amplitudes (std; \
+         Stoica & Nehorai 1989) and stochastic for the scene's\nsource covariance (sto; Stoica & \
+         Nehorai 1990)\narray: {}\nnoise: σ = {} (E|n|² = σ² per sensor and snapshot)\n",
         rows.len(),
         shown(path),
         describe(data),
@@ -167,10 +185,18 @@ fn text(path: &Path, truth: &ArrayTruth, data: &Snapshots, sigma: f64, rows: &[R
     }
     out.push('\n');
     let with_angles = data.spacing().is_some();
-    let mut head = vec!["#", "frequency", "power", "drawn", "std f", "std f·M"];
+    let mut head = vec![
+        "#",
+        "frequency",
+        "power",
+        "drawn",
+        "std f",
+        "std f·M",
+        "sto f",
+    ];
     if with_angles {
         head.splice(2..2, ["angle"]);
-        head.push("std θ");
+        head.extend(["std θ", "sto θ"]);
     }
     let table: Vec<Vec<String>> = rows
         .iter()
@@ -183,6 +209,7 @@ fn text(path: &Path, truth: &ArrayTruth, data: &Snapshots, sigma: f64, rows: &[R
                 num(r.sample_power),
                 num(r.std_f),
                 num(r.std_f * m),
+                r.std_sto.map_or_else(|| "-".into(), num),
             ];
             if with_angles {
                 row.insert(
@@ -190,10 +217,9 @@ fn text(path: &Path, truth: &ArrayTruth, data: &Snapshots, sigma: f64, rows: &[R
                     r.angle_deg
                         .map_or_else(|| "-".into(), |a| format!("{}°", sig(a, 4))),
                 );
-                row.push(
-                    r.std_angle
-                        .map_or_else(|| "-".into(), |a| format!("{}°", num(a))),
-                );
+                for a in [r.std_angle, r.std_angle_sto] {
+                    row.push(a.map_or_else(|| "-".into(), |a| format!("{}°", num(a))));
+                }
             }
             row
         })
@@ -223,8 +249,13 @@ fn text(path: &Path, truth: &ArrayTruth, data: &Snapshots, sigma: f64, rows: &[R
          deviation of the spatial frequency\n(cycles per sensor); std f·M: the same in resolution \
          cells 1/M",
     );
+    out.push_str(
+        ";\nsto f: the stochastic bound, for amplitudes random with the scene's source covariance \
+         (std f is for the amplitudes drawn, so the draw\nmoves the two apart too); a \
+         maximum-likelihood estimator attains it as L grows",
+    );
     if with_angles {
-        out.push_str("; std θ: of the angle,\nstd f / (D cos θ), growing towards endfire");
+        out.push_str("; std θ, sto θ: of the angle, std f / (D cos θ), growing towards endfire");
     }
     out.push_str(".\n");
     if data.spacing().is_some_and(|d| d > 0.5) {

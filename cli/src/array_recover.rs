@@ -51,20 +51,24 @@ pub fn run(
     Ok(())
 }
 
-/// The sources as CSV: `position,frequency,angle_deg,power,crb_std,crb_std_angle_deg` (angles empty
-/// without a spacing, bounds empty without a noise level), every value in full.
+/// The sources as CSV: `position,frequency,angle_deg,power,crb_std,crb_std_angle_deg,
+/// crb_std_stochastic` (angles empty without a spacing, bounds empty without a noise level), every
+/// value in full.
 pub fn sources_csv(estimate: &ArrayEstimate) -> String {
-    let mut out = String::from("position,frequency,angle_deg,power,crb_std,crb_std_angle_deg\n");
+    let mut out = String::from(
+        "position,frequency,angle_deg,power,crb_std,crb_std_angle_deg,crb_std_stochastic\n",
+    );
     let opt = |x: Option<f64>| x.map_or_else(String::new, exact);
     for s in &estimate.sources {
         out.push_str(&format!(
-            "{},{},{},{},{},{}\n",
+            "{},{},{},{},{},{},{}\n",
             exact(s.position),
             exact(s.frequency),
             opt(s.angle_deg),
             exact(s.power),
             opt(s.crb_std_position),
-            opt(s.crb_std_angle_deg)
+            opt(s.crb_std_angle_deg),
+            opt(s.crb_std_stochastic)
         ));
     }
     out
@@ -113,7 +117,10 @@ pub fn summary(estimate: &ArrayEstimate, data: &Snapshots, requested: NoiseLevel
             "σ = {} per sensor and snapshot ({})",
             num(s),
             match (&d.sigma_method, d.sigma_estimated) {
-                (Some(m), true) => format!("estimated from the data: {m}"),
+                (Some(m), true) => format!(
+                    "estimated from the data: {}",
+                    array_input::squeeze(&m.to_string())
+                ),
                 (None, true) => "estimated from the data".to_string(),
                 _ => "as given".to_string(),
             }

@@ -109,12 +109,13 @@ fn simulated_array_files_read_back_and_agree_with_their_truth() {
     );
     let t = parse_array_truth(&std::fs::read_to_string(&tr).unwrap(), "c.json").unwrap();
     let f: Vec<f64> = t.sources.iter().map(|s| s.frequency).collect();
-    // Sorted by position on [0, 1): 10° (f = 0.0868) before −30° (f = −0.25, position 0.75).
+    // In the scene's order (the first is the reference of the correlation): −30° (f = −0.25),
+    // then 10° (f = 0.5 sin 10° = 0.0868).
+    assert!((f[0] + 0.25).abs() < 1e-12, "{f:?}");
     assert!(
-        (f[0] - 0.5 * 10f64.to_radians().sin()).abs() < 1e-12,
+        (f[1] - 0.5 * 10f64.to_radians().sin()).abs() < 1e-12,
         "{f:?}"
     );
-    assert!((f[1] + 0.25).abs() < 1e-12, "{f:?}");
     assert_eq!(t.sigma, 0.0);
     assert_eq!(t.snapshots, 50);
 }
@@ -409,4 +410,205 @@ fn bound_of_an_array_truth_is_the_conditional_bound() {
     assert_exit(&out, 2, "exact truth");
     assert!(stderr(&out).contains("give --sigma"));
     assert!(ok(&run(&["bound", "--truth", s(&exact), "--sigma", "0.1"])).contains("std f"));
+}
+
+/// `compare --format json` of `methods` on a snapshot file against its truth: (method, score) rows.
+fn scores(csv: &std::path::Path, truth: &std::path::Path, methods: &str) -> Vec<(String, Value)> {
+    let out = run(&[
+        "compare",
+        "-i",
+        s(csv),
+        "--truth",
+        s(truth),
+        "--methods",
+        methods,
+        "--format",
+        "json",
+    ]);
+    let v: Value = serde_json::from_str(&ok(&out)).unwrap();
+    v["methods"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|m| {
+            (
+                m["method"].as_str().unwrap().to_string(),
+                m["score"].clone(),
+            )
+        })
+        .collect()
+}
+
+/// Every true source found within 4 conditional-CRB standard deviations, nothing significant
+/// spurious (the acceptance rule).
+fn assert_accepted(rows: &[(String, Value)], sources: u64) {
+    for (m, sc) in rows {
+        assert_eq!(sc["found"].as_u64(), Some(sources), "{m}: {sc}");
+        assert_eq!(sc["missed"].as_u64(), Some(0), "{m}: {sc}");
+        assert_eq!(sc["spurious_significant"].as_u64(), Some(0), "{m}: {sc}");
+        let e = sc["max_error_crb"].as_f64().unwrap();
+        assert!(e < 4.0, "{m}: largest error {e} CRB standard deviations");
+    }
+}
+
+#[test]
+fn simulate_recover_compare_plot_round_trip() {
+    let dir = tmpdir("arre2e");
+    // The first acceptance case (invented, seeded): 16 sensors half a wavelength apart, 50
+    // snapshots, 3 uncorrelated sources at 10 dB; the order unknown and σ estimated.
+    let (csv, truth) = array_scene(
+        &dir,
+        "a",
+        &[
+            "--sensors",
+            "16",
+            "--snapshots",
+            "50",
+            "--count",
+            "3",
+            "--separation",
+            "2",
+            "--snr",
+            "10",
+            "--spacing",
+            "0.5",
+            "--seed",
+            "1",
+        ],
+    );
+    let out = run(&[
+        "recover",
+        "-i",
+        s(&csv),
+        "--method",
+        "esprit",
+        "--spacing",
+        "0.5",
+    ]);
+    let v: Value = serde_json::from_str(&ok(&out)).unwrap();
+    assert_eq!(v["method"], "esprit");
+    let sources = v["sources"].as_array().unwrap();
+    assert_eq!(sources.len(), 3, "{v}");
+    for src in sources {
+        assert_eq!(src["amplitudes"].as_array().unwrap().len(), 50);
+        for key in [
+            "angle_deg",
+            "crb_std",
+            "crb_std_angle_deg",
+            "crb_std_stochastic",
+            "power",
+        ] {
+            assert!(
+                src[key].as_f64().is_some_and(|x| x.is_finite()),
+                "{key}: {src}"
+            );
+        }
+    }
+    let summary = stderr(&out);
+    for want in [
+        "16 sensors (n = 0..15), 50 snapshots, spacing 0.5 wavelengths",
+        "resolution 1/M = 0.0625 cycles/sensor",
+        "3 sources recovered; closest pair",
+        "#1: angle ",
+        "CRB std ",
+        "(estimated from the data",
+    ] {
+        assert!(summary.contains(want), "{want}: {summary}");
+    }
+    assert_accepted(&scores(&csv, &truth, "esprit,music,pencil"), 3);
+    // The CSV forms: one row per source, one per method.
+    let rows = ok(&run(&[
+        "recover",
+        "-i",
+        s(&csv),
+        "-m",
+        "esprit",
+        "--format",
+        "csv",
+        "-q",
+    ]));
+    assert_eq!(rows.lines().count(), 4, "{rows}");
+    assert!(rows.starts_with("position,frequency,angle_deg,power,crb_std,"));
+    let table = ok(&run(&[
+        "compare",
+        "-i",
+        s(&csv),
+        "--truth",
+        s(&truth),
+        "--methods",
+        "esprit,grid",
+        "--format",
+        "csv",
+    ]));
+    let lines: Vec<&str> = table.lines().collect();
+    assert_eq!(lines.len(), 3, "{table}");
+    assert!(lines[1].starts_with("esprit,solved,3,3,0,0,0,"), "{table}");
+    assert!(lines[2].starts_with("grid,,") && lines[2].contains("takes one record at a time"));
+    // The spatial spectrum, in angle, scored against the truth in its caption.
+    let svg = dir.join("a.svg");
+    let out = run(&[
+        "plot",
+        "-i",
+        s(&csv),
+        "--truth",
+        s(&truth),
+        "--spacing",
+        "0.5",
+        "-m",
+        "esprit",
+        "-o",
+        s(&svg),
+    ]);
+    ok(&out);
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert!(text.contains("angle θ from broadside (degrees)"));
+    assert!(
+        text.contains("found 3, missed 0, spurious 0"),
+        "caption scores the truth"
+    );
+}
+
+#[test]
+fn a_coherent_pair_is_found_and_a_wide_spacing_is_called_ambiguous() {
+    let dir = tmpdir("arrcoh");
+    // The coherent case (invented, seeded): 16 sensors, 60 snapshots, a fully coherent pair
+    // 1.5/M apart at 20 dB.
+    let (csv, truth) = array_scene(
+        &dir,
+        "c",
+        &[
+            "--sensors",
+            "16",
+            "--snapshots",
+            "60",
+            "--count",
+            "2",
+            "--separation",
+            "1.5",
+            "--snr",
+            "20",
+            "--correlation",
+            "coherent",
+            "--seed",
+            "3",
+        ],
+    );
+    assert_accepted(&scores(&csv, &truth, "esprit"), 2);
+    // A spacing above half a wavelength: every source's angle is ambiguous, and recover says so.
+    let out = run(&[
+        "recover",
+        "-i",
+        s(&csv),
+        "-m",
+        "esprit",
+        "--spacing",
+        "0.8",
+        "-q",
+    ]);
+    ok(&out);
+    assert!(
+        stderr(&out).contains("AMBIGUOUS ANGLES"),
+        "{}",
+        stderr(&out)
+    );
 }

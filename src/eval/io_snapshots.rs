@@ -371,7 +371,8 @@ fn number(x: f64) -> Value {
 
 /// An array estimate as JSON: `method`, `status`, `sources` (each with `position` on `[0, 1)`,
 /// signed spatial `frequency` in cycles per sensor, `power`, `amplitudes` as `[re, im]` per snapshot,
-/// `crb_std` of the position in cycles per sensor, and with a spacing `angle_deg` and
+/// `crb_std` (conditional) and `crb_std_stochastic` of the position in cycles per sensor, and with a
+/// spacing `angle_deg` and
 /// `crb_std_angle_deg`), `array` (the record: domain, measured indices, span `M`, snapshots,
 /// spacing), `resolution` (`1/M`) and `diagnostics`.
 pub fn array_estimate_json(estimate: &ArrayEstimate, data: &Snapshots) -> Value {
@@ -390,6 +391,10 @@ pub fn array_estimate_json(estimate: &ArrayEstimate, data: &Snapshots) -> Value 
             o.insert(
                 "crb_std".into(),
                 s.crb_std_position.map_or(Value::Null, number),
+            );
+            o.insert(
+                "crb_std_stochastic".into(),
+                s.crb_std_stochastic.map_or(Value::Null, number),
             );
             if spacing.is_some() {
                 o.insert(
@@ -477,7 +482,8 @@ pub struct ArrayTruth {
     /// The seed of the draw.
     #[serde(default)]
     pub seed: Option<u64>,
-    /// The sources, by position.
+    /// The sources, in the scene's order: the first is the one the others are correlated with, or
+    /// copies of, for correlated and coherent scenes.
     pub sources: Vec<TruthSource>,
 }
 
@@ -502,7 +508,7 @@ impl ArrayTruth {
             .collect();
         let l = data.snapshot_count();
         let power = snr_db.map_or(1.0, |db| 10f64.powf(db / 10.0));
-        let mut sources: Vec<TruthSource> = draw
+        let sources: Vec<TruthSource> = draw
             .positions
             .iter()
             .enumerate()
@@ -521,7 +527,6 @@ impl ArrayTruth {
                 }
             })
             .collect();
-        sources.sort_by(|a, b| a.position.total_cmp(&b.position));
         ArrayTruth {
             kind: ARRAY_TRUTH_KIND.to_string(),
             sensors,
@@ -536,7 +541,7 @@ impl ArrayTruth {
         }
     }
 
-    /// The true positions, in the order of [`ArrayTruth::sources`].
+    /// The true positions, in the order of [`ArrayTruth::sources`] (the scene's).
     pub fn positions(&self) -> Vec<f64> {
         self.sources.iter().map(|s| s.position).collect()
     }
@@ -581,6 +586,57 @@ impl ArrayTruth {
     pub fn conditional_crb(&self, sigma: f64) -> Result<Vec<f64>> {
         let data = self.noiseless()?;
         crate::bounds::conditional_crb(&data, &self.positions(), &self.amplitude_matrix(), sigma)
+    }
+
+    /// The scene's source covariance `P = E[s(t) s(t)ᴴ]` (`s × s`), from the sources' powers `P_j`
+    /// and their relation: diagonal for uncorrelated sources; for sources correlated with the first
+    /// (`s_j = ρ s_1 + √(1 − ρ²) w_j`) `P_1j = ρ√(P_1 P_j)` and `P_ij = ρ²√(P_i P_j)` between two
+    /// others; for coherent sources (`s_j = u_j s_1`, `|u_j| = 1`) the rank-one `√(P_i P_j) u_i ū_j`,
+    /// the phases `u_j` read off the drawn amplitudes.
+    pub fn source_covariance(&self) -> DMatrix<Complex64> {
+        let s = self.sources.len();
+        let p: Vec<f64> = self.sources.iter().map(|x| x.power).collect();
+        let z = |j: usize, t: usize| {
+            let [re, im] = self.sources[j].amplitudes[t];
+            Complex64::new(re, im)
+        };
+        // Phases of the coherent copies relative to the first source, from a snapshot where the
+        // first source is not zero.
+        let t0 = (0..self.snapshots)
+            .max_by(|&a, &b| z(0, a).norm().total_cmp(&z(0, b).norm()))
+            .unwrap_or(0);
+        let u: Vec<Complex64> = (0..s)
+            .map(|j| {
+                let r = z(j, t0) / z(0, t0);
+                if r.norm() > 0.0 && r.is_finite() {
+                    r / r.norm()
+                } else {
+                    Complex64::new(1.0, 0.0)
+                }
+            })
+            .collect();
+        DMatrix::from_fn(s, s, |i, j| {
+            let scale = (p[i] * p[j]).sqrt();
+            match self.correlation {
+                _ if i == j => Complex64::new(p[i], 0.0),
+                SourceCorrelation::Uncorrelated => Complex64::new(0.0, 0.0),
+                SourceCorrelation::Correlated(r) if i == 0 || j == 0 => {
+                    Complex64::new(r * scale, 0.0)
+                }
+                SourceCorrelation::Correlated(r) => Complex64::new(r * r * scale, 0.0),
+                SourceCorrelation::Coherent => u[i] * u[j].conj() * scale,
+            }
+        })
+    }
+
+    /// The stochastic Cramér–Rao variances of the true positions at noise level `sigma`, for the
+    /// scene's source covariance ([`ArrayTruth::source_covariance`], [`crate::stochastic_crb`]).
+    ///
+    /// # Errors
+    /// Those of [`ArrayTruth::noiseless`] and [`crate::stochastic_crb`].
+    pub fn stochastic_crb(&self, sigma: f64) -> Result<Vec<f64>> {
+        let data = self.noiseless()?;
+        crate::bounds::stochastic_crb(&data, &self.positions(), &self.source_covariance(), sigma)
     }
 
     /// Check the fields for consistency (sensors, snapshots, amplitudes per snapshot, σ).

@@ -213,3 +213,64 @@ fn array_results_carry_sources_with_their_snapshots_angles_and_bounds() {
         }
     }
 }
+
+#[test]
+fn the_stochastic_bound_uses_the_scenes_source_covariance() {
+    // Check values of the research notes (/work/shared/notes/snapshots-and-real-signals.md §A(3),
+    // computed there and matched to a full Fisher-information evaluation): 8 sensors at half a
+    // wavelength, 100 snapshots, two sources at 0 dB at θ = 0° and 8°: var_sto f = 1.76242e-5 per
+    // source for P = I, 1.66067e-5 with correlation 0.9.
+    let f2 = 0.5 * 8f64.to_radians().sin();
+    let truth = |correlation| ArrayTruth {
+        kind: ARRAY_TRUTH_KIND.into(),
+        sensors: 8,
+        missing_sensors: vec![],
+        snapshots: 100,
+        spacing: Some(0.5),
+        sigma: 1.0,
+        snr_db: Some(0.0),
+        correlation,
+        seed: None,
+        sources: [0.0, f2]
+            .iter()
+            .map(|&f| TruthSource {
+                position: crate::model::wrap(f),
+                frequency: f,
+                angle_deg: None,
+                power: 1.0,
+                sample_power: 1.0,
+                amplitudes: vec![[1.0, 0.0]; 100],
+            })
+            .collect(),
+    };
+    for (c, want) in [
+        (SourceCorrelation::Uncorrelated, 1.76242e-5),
+        (SourceCorrelation::Correlated(0.9), 1.66067e-5),
+    ] {
+        let var = truth(c).stochastic_crb(1.0).unwrap();
+        for v in &var {
+            // The notes give 6 significant digits.
+            assert!(
+                (v / want - 1.0).abs() < 5e-6,
+                "{c:?}: {var:?} against {want}"
+            );
+        }
+    }
+    // Coherent copies: rank one, with the drawn phase between the two.
+    let mut t = truth(SourceCorrelation::Coherent);
+    t.sources[1].amplitudes = vec![[0.0, 1.0]; 100];
+    let p = t.source_covariance();
+    assert!(
+        (p[(0, 1)] - Complex64::new(0.0, -1.0)).norm() < 1e-15,
+        "{p}"
+    );
+    assert!((p[(1, 0)] - Complex64::new(0.0, 1.0)).norm() < 1e-15, "{p}");
+    // Three correlated sources: ρ with the first, ρ² between the others.
+    let mut t = truth(SourceCorrelation::Correlated(0.5));
+    let mut third = t.sources[1].clone();
+    third.position = 0.3;
+    third.power = 4.0;
+    t.sources.push(third);
+    let p = t.source_covariance();
+    assert_eq!((p[(0, 2)].re, p[(1, 2)].re, p[(2, 2)].re), (1.0, 0.5, 4.0));
+}
