@@ -21,7 +21,8 @@ use std::path::PathBuf;
 ///
 /// An array truth (`simulate --sensors`, `"kind": "array"`) gives the conditional (deterministic)
 /// bound of Stoica & Nehorai (1989) of each source's spatial frequency for the amplitudes drawn in
-/// the scene, in cycles per sensor and in resolution cells 1/M, and with a spacing of its angle in
+/// the scene, in cycles per sensor and in resolution cells 1/M, and beside it the stochastic bound
+/// (Stoica & Nehorai 1990) for the scene's source covariance; with a spacing, both for the angle in
 /// degrees.
 #[derive(Args, Debug)]
 #[command(after_help = crate::EXIT_CODES)]
