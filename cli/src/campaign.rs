@@ -105,8 +105,9 @@ pub(crate) fn run_plan(plan: &Path, out: &Path, format: ReportFormat) -> Result<
     }
     let summaries = campaign.summaries();
     let text = match format {
-        ReportFormat::Json => serde_json::to_string_pretty(&summaries)
-            .map_err(|e| Failure::Output(e.to_string()))?,
+        ReportFormat::Json => {
+            serde_json::to_string_pretty(&summaries).map_err(|e| Failure::Output(e.to_string()))?
+        }
         ReportFormat::Csv => {
             let mut buf = Vec::new();
             campaign

@@ -63,8 +63,14 @@ pub fn child(args: &[String]) -> Result<(), Box<dyn std::error::Error>> {
     let seconds = t.elapsed().as_secs_f64();
     let peak = vm("VmHWM:").unwrap_or(f64::NAN);
     match result {
-        Ok(e) => println!("{seconds} {peak} {base} {}", e.status.to_string().replace(' ', "_")),
-        Err(e) => println!("nan {peak} {base} refused:{}", e.to_string().replace(' ', "_")),
+        Ok(e) => println!(
+            "{seconds} {peak} {base} {}",
+            e.status.to_string().replace(' ', "_")
+        ),
+        Err(e) => println!(
+            "nan {peak} {base} refused:{}",
+            e.to_string().replace(' ', "_")
+        ),
     }
     Ok(())
 }

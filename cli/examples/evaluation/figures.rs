@@ -239,7 +239,10 @@ fn resolution(r: &Results, path: &Path) -> Fallible {
         for (p, (area, snr)) in panels.iter().zip(snrs).enumerate() {
             let snr = snr.unwrap_or(f64::INFINITY);
             let mut chart = ChartBuilder::on(area)
-                .caption(format!("SNR {snr} dB"), ("sans-serif", 16).into_font().color(&INK))
+                .caption(
+                    format!("SNR {snr} dB"),
+                    ("sans-serif", 16).into_font().color(&INK),
+                )
                 .margin(8)
                 .x_label_area_size(40)
                 .y_label_area_size(44)
@@ -289,11 +292,7 @@ fn resolution(r: &Results, path: &Path) -> Fallible {
 fn cost(points: &[Point], path: &Path) -> Fallible {
     let methods: Vec<&str> = crate::studies::all_methods();
     let nmax = points.iter().map(|p| p.n).max().unwrap_or(64) as f64 * 1.3;
-    let tmax = points
-        .iter()
-        .filter_map(|p| p.seconds)
-        .fold(1e-3, f64::max)
-        * 2.0;
+    let tmax = points.iter().filter_map(|p| p.seconds).fold(1e-3, f64::max) * 2.0;
     let mmax = points
         .iter()
         .filter_map(|p| Some(p.peak_mb? - p.base_mb?))
@@ -311,7 +310,10 @@ fn cost(points: &[Point], path: &Path) -> Fallible {
         ))?;
         let (left, right) = rest.split_horizontally(550);
         let mut tc = ChartBuilder::on(&left)
-            .caption("wall time of one estimate", ("sans-serif", 16).into_font().color(&INK))
+            .caption(
+                "wall time of one estimate",
+                ("sans-serif", 16).into_font().color(&INK),
+            )
             .margin(10)
             .x_label_area_size(40)
             .y_label_area_size(60)
@@ -348,7 +350,9 @@ fn cost(points: &[Point], path: &Path) -> Fallible {
                 .collect();
             tc.draw_series(LineSeries::new(t.clone(), c.stroke_width(2)))?
                 .label(m)
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], c.stroke_width(3)));
+                .legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 18, y)], c.stroke_width(3))
+                });
             tc.draw_series(t.iter().map(|&p| Circle::new(p, 3, c.filled())))?;
             let mem: Vec<(f64, f64)> = points
                 .iter()

@@ -124,7 +124,9 @@ pub struct Check {
     pub evidence: String,
 }
 
-fn all_succeed<'a>(cells: impl Iterator<Item = &'a ConditionSummary>) -> (usize, usize, Vec<String>) {
+fn all_succeed<'a>(
+    cells: impl Iterator<Item = &'a ConditionSummary>,
+) -> (usize, usize, Vec<String>) {
     let (mut ok, mut total, mut bad) = (0, 0, Vec::new());
     for s in cells {
         ok += s.successes;
@@ -164,9 +166,10 @@ pub fn checks(r: &Results) -> Vec<Check> {
     let fg = r.fg.summaries();
     let (ok, total, bad) = all_succeed(fg.iter());
     out.push(Check {
-        claim: "Exact data: sdp recovers every spike when neighbours are at least 1.26/fc apart, for \
+        claim:
+            "Exact data: sdp recovers every spike when neighbours are at least 1.26/fc apart, for \
                 every amplitude pattern tried (1.3, 1.6, 2.0, 2.5/fc; 2, 4, 6 spikes; N = 33)"
-            .into(),
+                .into(),
         source: "Fernandez-Granda 2016, Information and Inference 5(3) (venue as in the project's \
                  design notes; proven for fc ≥ 10³, recalled)",
         passed: total > 0 && ok == total,
@@ -229,7 +232,12 @@ pub fn checks(r: &Results) -> Vec<Check> {
             .map(|l| l.error_res.map(|e| e / n))
             .collect::<Option<Vec<f64>>>()
             .unwrap_or_default();
-        let trials = r.tone.trials.iter().filter(|t| t.method == m.label()).count();
+        let trials = r
+            .tone
+            .trials
+            .iter()
+            .filter(|t| t.method == m.label())
+            .count();
         if errs.len() < trials || errs.is_empty() {
             all_ok = false;
             lines.push(format!("{}: a tone was missed", m.label()));
@@ -281,7 +289,11 @@ pub fn testable<'a>(
     let plan = &r.heat.plan;
     let mut cells = Vec::new();
     let mut out = Vec::new();
-    for s in r.heat_summaries.iter().filter(|s| s.method == method && keep(s)) {
+    for s in r
+        .heat_summaries
+        .iter()
+        .filter(|s| s.method == method && keep(s))
+    {
         let c = &s.condition;
         let n = c.band.len() as f64;
         let seen = (0..plan.draws).all(|d| {
@@ -289,7 +301,9 @@ pub fn testable<'a>(
                 return false;
             };
             finespike::crb_for(&scene.data, &scene.truth, precision).is_ok_and(|b| {
-                b.per_spike.iter().all(|p| p.std_position * n <= plan.exact_tolerance)
+                b.per_spike
+                    .iter()
+                    .all(|p| p.std_position * n <= plan.exact_tolerance)
             })
         });
         if seen {
@@ -313,7 +327,11 @@ pub fn cpu_seconds() -> Option<f64> {
     let after = stat.rsplit_once(')')?.1;
     let f: Vec<&str> = after.split_whitespace().collect();
     // After the command name: field 3 is f[0], so fields 14..=17 are f[11..=14].
-    let ticks: f64 = f.get(11..=14)?.iter().filter_map(|x| x.parse::<f64>().ok()).sum();
+    let ticks: f64 = f
+        .get(11..=14)?
+        .iter()
+        .filter_map(|x| x.parse::<f64>().ok())
+        .sum();
     Some(ticks / 100.0)
 }
 
@@ -349,8 +367,8 @@ fn commit() -> String {
             .map(|o| String::from_utf8_lossy(&o.stdout).trim().to_string())
     };
     let head = git(&["rev-parse", "HEAD"]).unwrap_or_else(|| "unknown".into());
-    let dirty = git(&["status", "--porcelain", "--untracked-files=no"])
-        .is_some_and(|s| !s.is_empty());
+    let dirty =
+        git(&["status", "--porcelain", "--untracked-files=no"]).is_some_and(|s| !s.is_empty());
     if dirty {
         format!("{head} (with uncommitted changes)")
     } else {
@@ -369,9 +387,15 @@ fn fmt(v: Option<f64>) -> String {
 }
 
 /// Mean success rate of `method` over the heat-map cells that `keep` selects.
-fn mean_success(heat: &[ConditionSummary], method: &str, keep: impl Fn(&ConditionSummary) -> bool) -> f64 {
-    let cells: Vec<&ConditionSummary> =
-        heat.iter().filter(|s| s.method == method && keep(s)).collect();
+fn mean_success(
+    heat: &[ConditionSummary],
+    method: &str,
+    keep: impl Fn(&ConditionSummary) -> bool,
+) -> f64 {
+    let cells: Vec<&ConditionSummary> = heat
+        .iter()
+        .filter(|s| s.method == method && keep(s))
+        .collect();
     if cells.is_empty() {
         return 0.0;
     }
@@ -379,12 +403,16 @@ fn mean_success(heat: &[ConditionSummary], method: &str, keep: impl Fn(&Conditio
 }
 
 fn best_of(scores: &[(String, f64)], higher_is_better: bool) -> (Vec<String>, f64) {
-    let best = scores
-        .iter()
-        .map(|s| s.1)
-        .fold(if higher_is_better { f64::MIN } else { f64::MAX }, |a, b| {
-            if higher_is_better { a.max(b) } else { a.min(b) }
-        });
+    let best = scores.iter().map(|s| s.1).fold(
+        if higher_is_better { f64::MIN } else { f64::MAX },
+        |a, b| {
+            if higher_is_better {
+                a.max(b)
+            } else {
+                a.min(b)
+            }
+        },
+    );
     let names = scores
         .iter()
         .filter(|s| (s.1 - best).abs() <= 1e-9 + 0.02 * best.abs())
@@ -406,7 +434,10 @@ pub fn which_method_when(r: &Results) -> Vec<[String; 3]> {
         let scores: Vec<(String, f64)> = HEAT_METHODS
             .iter()
             .map(|m| {
-                (m.to_string(), mean_success(&heat, m, |s| close(s) && s.condition.amplitudes == pattern))
+                (
+                    m.to_string(),
+                    mean_success(&heat, m, |s| close(s) && s.condition.amplitudes == pattern),
+                )
             })
             .collect();
         let (names, best) = best_of(&scores, true);
@@ -423,12 +454,25 @@ pub fn which_method_when(r: &Results) -> Vec<[String; 3]> {
     }
     let wide: Vec<(String, f64)> = HEAT_METHODS
         .iter()
-        .map(|m| (m.to_string(), mean_success(&heat, m, |s| s.condition.separation_res >= 2.0)))
+        .map(|m| {
+            (
+                m.to_string(),
+                mean_success(&heat, m, |s| s.condition.separation_res >= 2.0),
+            )
+        })
         .collect();
-    let all_wide: Vec<String> = wide.iter().filter(|s| s.1 >= 0.999).map(|s| s.0.clone()).collect();
+    let all_wide: Vec<String> = wide
+        .iter()
+        .filter(|s| s.1 >= 0.999)
+        .map(|s| s.0.clone())
+        .collect();
     rows.push([
         "Exact data, spikes at least 2/N (about 1/fc) apart".into(),
-        if all_wide.is_empty() { "none without failures".into() } else { all_wide.join(", ") },
+        if all_wide.is_empty() {
+            "none without failures".into()
+        } else {
+            all_wide.join(", ")
+        },
         "every trial of the map's cells at 2/N and above recovered exactly".into(),
     ]);
     let crb = crb_rows(&r.crb);
@@ -439,13 +483,25 @@ pub fn which_method_when(r: &Results) -> Vec<[String; 3]> {
         .filter_map(|c| Some((c.method.clone(), c.ratio?)))
         .collect();
     at_top.sort_by(|a, b| a.1.total_cmp(&b.1));
-    let efficient: Vec<String> = at_top.iter().filter(|s| s.1 <= 1.2).map(|s| s.0.clone()).collect();
+    let efficient: Vec<String> = at_top
+        .iter()
+        .filter(|s| s.1 <= 1.2)
+        .map(|s| s.0.clone())
+        .collect();
     rows.push([
         format!("Noisy data, high SNR ({top} dB), lines 3/N apart"),
-        if efficient.is_empty() { "none within 20 % of the bound".into() } else { efficient.join(", ") },
+        if efficient.is_empty() {
+            "none within 20 % of the bound".into()
+        } else {
+            efficient.join(", ")
+        },
         format!(
             "RMSE/√CRB ≤ 1.2 at {top} dB ({})",
-            at_top.iter().map(|s| format!("{} {:.2}", s.0, s.1)).collect::<Vec<_>>().join(", ")
+            at_top
+                .iter()
+                .map(|s| format!("{} {:.2}", s.0, s.1))
+                .collect::<Vec<_>>()
+                .join(", ")
         ),
     ]);
     let thresholds: Vec<(String, f64)> = r
@@ -507,7 +563,12 @@ pub fn which_method_when(r: &Results) -> Vec<[String; 3]> {
             .collect();
         rows.push([
             format!("Long records (N = {nmax} in this run)"),
-            fastest.iter().take(3).map(|s| s.0.clone()).collect::<Vec<_>>().join(", "),
+            fastest
+                .iter()
+                .take(3)
+                .map(|s| s.0.clone())
+                .collect::<Vec<_>>()
+                .join(", "),
             format!(
                 "fastest at N = {nmax}: {} {:.3} s{}",
                 f.0,
@@ -515,7 +576,10 @@ pub fn which_method_when(r: &Results) -> Vec<[String; 3]> {
                 if not_reached.is_empty() {
                     String::new()
                 } else {
-                    format!("; not run that far (refused or over the time limit): {}", not_reached.join(", "))
+                    format!(
+                        "; not run that far (refused or over the time limit): {}",
+                        not_reached.join(", ")
+                    )
                 }
             ),
         ]);
@@ -560,7 +624,11 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
         )
         .ok();
     }
-    writeln!(w, "## Known behaviour (checked; the command exits non-zero if one fails)\n").ok();
+    writeln!(
+        w,
+        "## Known behaviour (checked; the command exits non-zero if one fails)\n"
+    )
+    .ok();
     for c in &checks {
         writeln!(
             w,
@@ -590,7 +658,10 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
          `finespike compare --plan`.\n"
     )
     .ok();
-    let wmw: Vec<Vec<String>> = which_method_when(r).into_iter().map(|r| r.to_vec()).collect();
+    let wmw: Vec<Vec<String>> = which_method_when(r)
+        .into_iter()
+        .map(|r| r.to_vec())
+        .collect();
     md.push_str(&table(&["situation", "choose", "because"], &wmw));
     let w = &mut md;
     writeln!(w, "\n## Phase transitions of noiseless recovery\n").ok();
@@ -663,7 +734,11 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
     let res = resolution_rows(&r.res);
     let rsnrs: Vec<f64> = r.res.plan.grid.snr_db.iter().flatten().copied().collect();
     let mut head: Vec<String> = vec!["method".into()];
-    head.extend(rsnrs.iter().map(|s| format!("50 % resolved from (1/N), {s} dB")));
+    head.extend(
+        rsnrs
+            .iter()
+            .map(|s| format!("50 % resolved from (1/N), {s} dB")),
+    );
     let rows: Vec<Vec<String>> = r
         .res
         .plan
@@ -672,7 +747,10 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
         .map(|m| {
             let mut row = vec![m.name.clone()];
             for s in &rsnrs {
-                row.push(half_separation(&res, &m.name, *s).map_or("not reached".into(), |x| format!("{x}")));
+                row.push(
+                    half_separation(&res, &m.name, *s)
+                        .map_or("not reached".into(), |x| format!("{x}")),
+                );
             }
             row
         })
@@ -696,7 +774,10 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
     let mut rows = Vec::new();
     for m in crate::studies::all_methods() {
         let mine: Vec<&Point> = r.cost.iter().filter(|p| p.method == m).collect();
-        let t: Vec<(usize, f64)> = mine.iter().filter_map(|p| Some((p.n, p.seconds?))).collect();
+        let t: Vec<(usize, f64)> = mine
+            .iter()
+            .filter_map(|p| Some((p.n, p.seconds?)))
+            .collect();
         let mem: Vec<(usize, f64)> = mine
             .iter()
             .filter_map(|p| Some((p.n, p.peak_mb? - p.base_mb?)))
@@ -705,7 +786,10 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
         let last = mine.last();
         rows.push(vec![
             m.to_string(),
-            t.iter().map(|(n, s)| format!("{n}: {s:.3}")).collect::<Vec<_>>().join(", "),
+            t.iter()
+                .map(|(n, s)| format!("{n}: {s:.3}"))
+                .collect::<Vec<_>>()
+                .join(", "),
             fmt(exponent(&t)),
             mine.iter()
                 .filter_map(|p| Some(format!("{}: {:.1}", p.n, p.peak_mb?)))
@@ -716,7 +800,14 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
         ]);
     }
     md.push_str(&table(
-        &["method", "seconds by N", "time exponent", "peak MB by N", "memory exponent", "last status"],
+        &[
+            "method",
+            "seconds by N",
+            "time exponent",
+            "peak MB by N",
+            "memory exponent",
+            "last status",
+        ],
         &rows,
     ));
     let w = &mut md;

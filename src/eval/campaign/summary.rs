@@ -1,7 +1,7 @@
 //! Per-condition summaries with 95 % confidence intervals, and the tidy files.
 
-use super::run::{Campaign, TrialRecord};
 use super::plan::Condition;
+use super::run::{Campaign, TrialRecord};
 use serde::Serialize;
 use std::io::{self, Write};
 
@@ -244,8 +244,7 @@ impl Campaign {
                 rmse_over_crb_lo: s.rmse_over_crb_ci.map(|c| c.0),
                 rmse_over_crb_hi: s.rmse_over_crb_ci.map(|c| c.1),
                 median_seconds: s.median_seconds,
-            })
-            ?;
+            })?;
         }
         w.flush()
     }
