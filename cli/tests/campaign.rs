@@ -17,7 +17,7 @@ fn plan_writes_tidy_records_and_a_summary() {
     let dir = tmpdir("campaign");
     let plan = write(&dir, "plan.json", PLAN);
     let csv = &dir.join("trials.csv");
-    let out = run(&["compare", "--plan", s(&plan), "--out", s(&csv)]);
+    let out = run(&["compare", "--plan", s(&plan), "--out", s(csv)]);
     let text = ok(&out);
     // 4 conditions × 2 draws × 2 methods = 16 trials, 2 lines each.
     assert!(
@@ -34,14 +34,14 @@ fn plan_writes_tidy_records_and_a_summary() {
     for l in exact {
         assert!(l.contains("success 2/2"), "{l}");
     }
-    let records = std::fs::read_to_string(&csv).unwrap();
+    let records = std::fs::read_to_string(csv).unwrap();
     assert_eq!(records.lines().count(), 1 + 16 * 2);
     assert!(records.starts_with("trial,condition,draw,seed,method,"));
 
     // JSON Lines for a .jsonl name; the same rows.
     let jsonl = &dir.join("trials.jsonl");
-    ok(&run(&["compare", "--plan", s(&plan), "--out", s(&jsonl)]));
-    let lines = std::fs::read_to_string(&jsonl).unwrap();
+    ok(&run(&["compare", "--plan", s(&plan), "--out", s(jsonl)]));
+    let lines = std::fs::read_to_string(jsonl).unwrap();
     assert_eq!(lines.lines().count(), 16 * 2);
     let first: Value = serde_json::from_str(lines.lines().next().unwrap()).unwrap();
     assert_eq!(first["method"], "esprit");
@@ -53,7 +53,7 @@ fn plan_writes_tidy_records_and_a_summary() {
         "--plan",
         s(&plan),
         "--out",
-        s(&csv),
+        s(csv),
         "--format",
         "json",
     ]);
@@ -70,13 +70,13 @@ fn plan_refusals_have_their_exit_codes() {
     assert_exit(&run(&["compare", "--plan", s(&plan)]), 2, "no --out");
     // Scene flags do not mix with a plan.
     assert_exit(
-        &run(&["compare", "--plan", s(&plan), "--out", s(&csv), "--fc", "8"]),
+        &run(&["compare", "--plan", s(&plan), "--out", s(csv), "--fc", "8"]),
         2,
         "--fc with --plan",
     );
     // Malformed JSON: an input error with the file and line.
     let broken = write(&dir, "broken.json", "{\n \"seed\": 1,\n \"draws\": }");
-    let out = run(&["compare", "--plan", s(&broken), "--out", s(&csv)]);
+    let out = run(&["compare", "--plan", s(&broken), "--out", s(csv)]);
     assert_exit(&out, 3, "malformed plan");
     assert!(
         stderr(&out).contains("broken.json, line 3"),
@@ -85,7 +85,7 @@ fn plan_refusals_have_their_exit_codes() {
     );
     // A valid file with an unknown method: a usage error naming it.
     let unknown = write(&dir, "unknown.json", &PLAN.replace("pencil", "prony"));
-    let out = run(&["compare", "--plan", s(&unknown), "--out", s(&csv)]);
+    let out = run(&["compare", "--plan", s(&unknown), "--out", s(csv)]);
     assert_exit(&out, 2, "unknown method");
     assert!(stderr(&out).contains("prony"), "{}", stderr(&out));
     // An output that cannot be written.
