@@ -18,9 +18,15 @@ fn read_plan(path: &Path) -> Result<Plan, Failure> {
             message: format!("cannot read the plan: {e}"),
         })
     })?;
+    // Malformed JSON and invalid settings alike are a bad input file (exit 3); the message names
+    // the file (and the line for malformed JSON).
     Plan::from_json(&text, &path.display().to_string()).map_err(|e| match e {
         finespike::Error::Parse { .. } => Failure::Input(e),
-        other => Failure::Usage(format!("{}: {other}", path.display())),
+        other => Failure::Input(finespike::Error::Parse {
+            source_name: path.display().to_string(),
+            line: 0,
+            message: other.to_string(),
+        }),
     })
 }
 

@@ -83,10 +83,11 @@ fn plan_refusals_have_their_exit_codes() {
         "{}",
         stderr(&out)
     );
-    // A valid file with an unknown method: a usage error naming it.
+    // Well-formed JSON with an unknown method: an input error naming the file and the method.
     let unknown = write(&dir, "unknown.json", &PLAN.replace("pencil", "prony"));
     let out = run(&["compare", "--plan", s(&unknown), "--out", s(csv)]);
-    assert_exit(&out, 2, "unknown method");
+    assert_exit(&out, 3, "unknown method");
+    assert!(stderr(&out).contains("unknown.json"), "{}", stderr(&out));
     assert!(stderr(&out).contains("prony"), "{}", stderr(&out));
     // An output that cannot be written.
     let out = run(&[

@@ -15,7 +15,7 @@ pub struct Point {
     pub method: String,
     /// Record length.
     pub n: usize,
-    /// Wall seconds of the estimate (`None`: refused or failed).
+    /// Median wall seconds of up to 3 runs of the estimate (`None`: refused or failed).
     pub seconds: Option<f64>,
     /// Peak resident set of the process, MB.
     pub peak_mb: Option<f64>,
@@ -58,10 +58,27 @@ pub fn child(args: &[String]) -> Result<(), Box<dyn std::error::Error>> {
     let options = MethodSpec::new(method).options(c.spikes, scene.sigma)?;
     let est = configure(method, &options)?.estimator;
     let base = vm("VmRSS:").unwrap_or(f64::NAN);
-    let t = Instant::now();
-    let result = est.estimate(&scene.data);
-    let seconds = t.elapsed().as_secs_f64();
+    // Up to 3 runs while they take under 2 s in all: the median time (the peak covers them all; the
+    // runs are the same, so it is one run's peak).
+    let mut times = Vec::new();
+    let started = Instant::now();
+    let mut result = None;
+    while times.len() < 3 && (times.is_empty() || started.elapsed().as_secs_f64() < 2.0) {
+        let t = Instant::now();
+        let r = est.estimate(&scene.data);
+        times.push(t.elapsed().as_secs_f64());
+        let failed = r.is_err();
+        result = Some(r);
+        if failed {
+            break;
+        }
+    }
+    times.sort_by(f64::total_cmp);
+    let seconds = times[times.len() / 2];
     let peak = vm("VmHWM:").unwrap_or(f64::NAN);
+    let Some(result) = result else {
+        return Err("no run".into());
+    };
     match result {
         Ok(e) => println!(
             "{seconds} {peak} {base} {}",

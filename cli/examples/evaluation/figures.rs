@@ -4,6 +4,7 @@ use crate::cost::Point;
 use crate::report::{crb_rows, resolution_rows, Results};
 use crate::studies::{HEAT_METHODS, PATTERNS};
 use plotters::prelude::*;
+use plotters::style::text_anchor::{HPos, Pos, VPos};
 use std::path::Path;
 
 type Fallible = Result<(), Box<dyn std::error::Error>>;
@@ -64,38 +65,35 @@ fn heat_maps(r: &Results, path: &Path) -> Fallible {
         for (i, area) in panels.iter().enumerate() {
             let method = HEAT_METHODS[i / PATTERNS.len()];
             let pattern = PATTERNS[i % PATTERNS.len()];
+            let (nx, ny) = (seps.len() as i32, counts.len() as i32);
             let mut chart = ChartBuilder::on(area)
                 .caption(
                     format!("{method}, {}", pattern.name().replace('_', " ")),
                     ("sans-serif", 16).into_font().color(&INK),
                 )
                 .margin(6)
-                .x_label_area_size(34)
-                .y_label_area_size(40)
-                .build_cartesian_2d(0f64..seps.len() as f64, 0f64..counts.len() as f64)?;
+                .x_label_area_size(38)
+                .y_label_area_size(44)
+                .build_cartesian_2d((0..nx).into_segmented(), (0..ny).into_segmented())?;
             chart
                 .configure_mesh()
                 .disable_mesh()
-                .x_labels(seps.len())
-                .y_labels(counts.len())
-                .x_label_formatter(&|x| {
-                    let i = (x - 0.5).round();
-                    if (x - 0.5 - i).abs() < 1e-6 && i >= 0.0 && (i as usize) < seps.len() {
-                        format!("{}", seps[i as usize])
-                    } else {
-                        String::new()
+                .x_labels(seps.len() + 1)
+                .y_labels(counts.len() + 1)
+                .x_label_formatter(&|v| match v {
+                    SegmentValue::CenterOf(i) if *i >= 0 && *i < nx => {
+                        format!("{}", seps[*i as usize])
                     }
+                    _ => String::new(),
                 })
-                .y_label_formatter(&|y| {
-                    let i = (y - 0.5).round();
-                    if (y - 0.5 - i).abs() < 1e-6 && i >= 0.0 && (i as usize) < counts.len() {
-                        format!("{}", counts[i as usize])
-                    } else {
-                        String::new()
+                .y_label_formatter(&|v| match v {
+                    SegmentValue::CenterOf(i) if *i >= 0 && *i < ny => {
+                        format!("{}", counts[*i as usize])
                     }
+                    _ => String::new(),
                 })
                 .x_desc("separation (1/N)")
-                .y_desc("spikes")
+                .y_desc("spike count")
                 .label_style(("sans-serif", 12))
                 .axis_desc_style(("sans-serif", 12))
                 .draw()?;
@@ -107,24 +105,31 @@ fn heat_maps(r: &Results, path: &Path) -> Fallible {
                             && s.condition.spikes == count
                             && (s.condition.separation_res - sep).abs() < 1e-9
                     });
-                    let (x, y) = (xi as f64, yi as f64);
+                    let (x, y) = (xi as i32, yi as i32);
+                    let corners = [
+                        (SegmentValue::Exact(x), SegmentValue::Exact(y)),
+                        (SegmentValue::Exact(x + 1), SegmentValue::Exact(y + 1)),
+                    ];
                     match cell {
                         Some(s) => {
                             chart.draw_series(std::iter::once(Rectangle::new(
-                                [(x, y), (x + 1.0, y + 1.0)],
+                                corners,
                                 ramp(s.success_rate).filled(),
                             )))?;
                             let ink = if s.success_rate > 0.55 { WHITE } else { INK };
                             chart.draw_series(std::iter::once(Text::new(
                                 format!("{:.0}", 100.0 * s.success_rate),
-                                (x + 0.3, y + 0.65),
-                                ("sans-serif", 11).into_font().color(&ink),
+                                (SegmentValue::CenterOf(x), SegmentValue::CenterOf(y)),
+                                ("sans-serif", 11)
+                                    .into_font()
+                                    .color(&ink)
+                                    .pos(Pos::new(HPos::Center, VPos::Center)),
                             )))?;
                         }
                         None => {
                             // Too many spikes for the record at this spacing.
                             chart.draw_series(std::iter::once(Rectangle::new(
-                                [(x, y), (x + 1.0, y + 1.0)],
+                                corners,
                                 RGBColor(200, 200, 200).filled(),
                             )))?;
                         }
@@ -145,6 +150,12 @@ fn bar(x: f64, lo: f64, hi: f64, c: RGBColor) -> PathElement<(f64, f64)> {
 /// RMSE/√CRB against SNR, log scale, chi-square 95 % bars.
 fn accuracy(r: &Results, path: &Path) -> Fallible {
     let rows = crb_rows(&r.crb);
+    let ymax = rows
+        .iter()
+        .filter_map(|row| Some(row.ci?.1.max(row.ratio?)))
+        .fold(3.0f64, f64::max)
+        .min(1e3)
+        * 1.2;
     let mut svg = String::new();
     {
         let root = SVGBackend::with_string(&mut svg, (1000, 640)).into_drawing_area();
@@ -157,13 +168,12 @@ fn accuracy(r: &Results, path: &Path) -> Fallible {
             .margin(12)
             .x_label_area_size(44)
             .y_label_area_size(60)
-            .right_y_label_area_size(10)
-            .build_cartesian_2d(-7f64..42f64, (0.5f64..300f64).log_scale())?;
+            .build_cartesian_2d(-7f64..42f64, (0.5f64..ymax).log_scale())?;
         chart
             .configure_mesh()
             .light_line_style(GRID)
             .x_desc("SNR of the weaker line (dB)")
-            .y_desc("RMSE / sqrt(CRB)  (1 = efficient)")
+            .y_desc("RMSE / sqrt(CRB)  (1 = efficient; dashed: 1 and 1.5)")
             .label_style(("sans-serif", 14))
             .axis_desc_style(("sans-serif", 14))
             .draw()?;
@@ -190,7 +200,7 @@ fn accuracy(r: &Results, path: &Path) -> Fallible {
                 .collect();
             chart
                 .draw_series(LineSeries::new(
-                    pts.iter().map(|p| (p.0, p.1.clamp(0.5, 300.0))),
+                    pts.iter().map(|p| (p.0, p.1.clamp(0.5, ymax))),
                     c.stroke_width(2),
                 ))?
                 .label(m.as_str())
@@ -199,11 +209,11 @@ fn accuracy(r: &Results, path: &Path) -> Fallible {
                 });
             chart.draw_series(
                 pts.iter()
-                    .map(|p| bar(p.0, p.2.clamp(0.5, 300.0), p.3.clamp(0.5, 300.0), c)),
+                    .map(|p| bar(p.0, p.2.clamp(0.5, ymax), p.3.clamp(0.5, ymax), c)),
             )?;
             chart.draw_series(
                 pts.iter()
-                    .map(|p| Circle::new((p.0, p.1.clamp(0.5, 300.0)), 3, c.filled())),
+                    .map(|p| Circle::new((p.0, p.1.clamp(0.5, ymax)), 3, c.filled())),
             )?;
         }
         chart

@@ -763,9 +763,11 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
         w,
         "![cost](evaluation-cost.svg)\n\nN time samples, 3 random-phase lines 3/N apart, 30 dB, σ \
          and the number of lines given. Each point is its own process (`evaluation cost-point \
-         METHOD N`): wall time of one estimate, and the peak resident set (VmHWM) minus the resident \
-         set just before the estimate. One run per point: the times carry the noise of a shared \
-         machine. A method is not run at larger N once it is refused or takes more than {} s. Growth \
+         METHOD N`): the median wall time of up to three runs of the estimate (fewer when they take over \
+         2 s), and the peak resident set (VmHWM) minus the resident \
+         set just before the estimate. The times carry the noise of a shared machine. `sdp` and \
+         `ast` switch from the interior point to Sliding Frank–Wolfe at fc = 25 (N ≈ 51): their drop \
+         between N = 32 and N = 64 is that switch of solver, not a cheaper problem. A method is not run at larger N once it is refused or takes more than {} s. Growth \
          exponents: least-squares slope of log(time) and log(memory) against log N over the points \
          with N ≥ 64 (fewer than two such points: –).\n",
         mode.cost_limit_s
