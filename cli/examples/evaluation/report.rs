@@ -769,7 +769,9 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
          `ast` switch from the interior point to Sliding Frank–Wolfe at fc = 25 (N ≈ 51): their drop \
          between N = 32 and N = 64 is that switch of solver, not a cheaper problem. A method is not run at larger N once it is refused or takes more than {} s. Growth \
          exponents: least-squares slope of log(time) and log(memory) against log N over the points \
-         with N ≥ 64 (fewer than two such points: –).\n",
+         with N ≥ 64 (fewer than two such points: –). Memory increments of a few MB are fixed \
+         allocations (buffers, plans) more than growth with N: over a short range of N their \
+         exponents say little (the full mode runs to N = 2048).\n",
         mode.cost_limit_s
     )
     .ok();
