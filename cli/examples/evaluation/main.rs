@@ -108,6 +108,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         }
     };
     let started = Instant::now();
+    let commit = report::commit();
     let docs = docs_dir();
     std::fs::create_dir_all(&docs)?;
     let say = |what: &str| eprintln!("[{:>6.1} s] {what}", started.elapsed().as_secs_f64());
@@ -135,7 +136,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     };
     figures::all(&results, &docs)?;
     let elapsed = started.elapsed().as_secs_f64();
-    let failed = report::write(&results, &mode, &docs, elapsed)?;
+    let failed = report::write(&results, &mode, &docs, elapsed, &commit)?;
     say(&format!("wrote {}", docs.join("evaluation.md").display()));
     if failed > 0 {
         eprintln!("FAILED: {failed} check(s) of known behaviour (see docs/evaluation.md)");

@@ -357,7 +357,9 @@ fn machine() -> String {
     format!("{cores} cores available (nproc), {mem} memory, {cpu}")
 }
 
-fn commit() -> String {
+/// The commit the run was made with, read before anything is written (the regenerated `docs/`
+/// would otherwise count as uncommitted changes); other uncommitted changes are named.
+pub fn commit() -> String {
     let git = |args: &[&str]| {
         std::process::Command::new("git")
             .args(args)
@@ -596,7 +598,13 @@ fn table(head: &[&str], rows: &[Vec<String>]) -> String {
 }
 
 /// Write `docs/evaluation.md`; returns the number of failed checks.
-pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usize, std::io::Error> {
+pub fn write(
+    r: &Results,
+    mode: &Mode,
+    docs: &Path,
+    seconds: f64,
+    commit: &str,
+) -> Result<usize, std::io::Error> {
     let checks = checks(r);
     let failed = checks.iter().filter(|c| !c.passed).count();
     let mut md = String::new();
@@ -613,7 +621,7 @@ pub fn write(r: &Results, mode: &Mode, docs: &Path, seconds: f64) -> Result<usiz
         seconds,
         cpu_seconds().map_or("unknown".into(), |c| format!("{c:.0}")),
         machine(),
-        commit()
+        commit
     )
     .ok();
     if mode.name == "quick" {
