@@ -36,7 +36,7 @@ use std::time::Instant;
 /// estimate at all (the table is printed first and names the errors).
 #[derive(Args, Debug)]
 #[command(
-    group(ArgGroup::new("source").required(true).args(["input", "trials"])),
+    group(ArgGroup::new("source").required(true).args(["input", "trials", "plan"])),
     after_help = crate::EXIT_CODES
 )]
 pub struct CompareArgs {
@@ -85,6 +85,16 @@ pub struct CompareArgs {
     /// --help`); positions are then also printed in the record's unit.
     #[command(flatten)]
     record: input::RecordArgs,
+    /// A benchmark campaign described by a JSON plan (grid of conditions, methods with settings,
+    /// draws, seed; layout in the library's `eval::campaign` docs), run in parallel on all cores.
+    /// Needs --out; prints one summary row per condition and method.
+    #[arg(long, requires = "out",
+          conflicts_with_all = ["methods", "solver", "order", "fc", "domain", "samples", "estimate_sigma", "SceneArgs"])]
+    plan: Option<PathBuf>,
+    /// With --plan: file for the per-trial records, one row per trial × true line (CSV, or JSON
+    /// Lines when the name ends in `.jsonl`).
+    #[arg(long, requires = "plan")]
+    out: Option<PathBuf>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = ReportFormat::Text)]
     format: ReportFormat,
@@ -143,6 +153,9 @@ fn build(
 }
 
 pub fn run(a: CompareArgs) -> Result<(), Failure> {
+    if let (Some(plan), Some(out)) = (&a.plan, &a.out) {
+        return crate::campaign::run_plan(plan, out, a.format);
+    }
     let methods = method_list(&a.methods)?;
     if let Some(n) = a.order {
         if n == 0 {

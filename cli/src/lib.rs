@@ -18,6 +18,7 @@
 //! - 5 an output could not be written.
 
 mod bound;
+mod campaign;
 mod compare;
 mod input;
 mod plot;
