@@ -48,7 +48,7 @@ use crate::kernels::lstsq::on_band as least_squares;
 use crate::kernels::peaks::scan;
 use crate::kernels::refine::{refine, RefineSettings};
 use crate::kernels::slide::{slide, Point};
-use crate::kernels::{noise_ball_radius, EXACT_STOP};
+use crate::kernels::{noise_ball_for, EXACT_STOP};
 use crate::model::{wrap, wrap_distance, Domain, Measurements};
 use crate::noise::resolve_noise as resolve_sigma;
 use std::fmt;
@@ -387,7 +387,7 @@ impl Greedy {
         let m = model.len() as f64;
         // Stopping level of ‖r‖ in normalised units.
         let target = match sigma {
-            Some(s) => noise_ball_radius(s, model.len()) / model.scale,
+            Some(s) => noise_ball_for(data, s) / model.scale,
             None if self.count.is_some() => 0.0,
             None => EXACT_STOP,
         };
@@ -486,7 +486,7 @@ impl Greedy {
         // The final, polished fit against the same target, in data units.
         let final_rn = data.residual_norm(&spikes);
         let target_data = match sigma {
-            Some(s) => Some(noise_ball_radius(s, model.len())),
+            Some(s) => Some(noise_ball_for(data, s)),
             None if self.count.is_none() => Some(EXACT_STOP * data.norm()),
             None => None,
         };
@@ -499,8 +499,7 @@ impl Greedy {
                     (false, _) => GreedyStop::NoProgress {
                         candidate,
                         offset_or_trend: at_zero_frequency(data, candidate),
-                        residual_over_target: sigma
-                            .map(|s| final_rn / noise_ball_radius(s, model.len())),
+                        residual_over_target: sigma.map(|s| final_rn / noise_ball_for(data, s)),
                     },
                 }
             }

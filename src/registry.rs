@@ -159,7 +159,7 @@ pub const METHODS: &[Method] = &[
     },
     Method {
         name: "music",
-        summary: "root-MUSIC on the Hankel matrix of a contiguous record",
+        summary: "root-MUSIC on the Hankel matrix of a contiguous record, or on the smoothed covariance of snapshots",
         noise: NoiseUse::Diagnostics,
         takes_order: true,
         takes_backend: false,
@@ -169,7 +169,7 @@ pub const METHODS: &[Method] = &[
     },
     Method {
         name: "esprit",
-        summary: "TLS-ESPRIT on the Hankel matrix of a contiguous record",
+        summary: "TLS-ESPRIT on the Hankel matrix of a contiguous record, or on the smoothed covariance of snapshots",
         noise: NoiseUse::Diagnostics,
         takes_order: true,
         takes_backend: false,
@@ -179,7 +179,7 @@ pub const METHODS: &[Method] = &[
     },
     Method {
         name: "pencil",
-        summary: "matrix pencil on the Hankel matrix of a contiguous record",
+        summary: "matrix pencil on the Hankel matrix of a contiguous record, or on the smoothed covariance of snapshots",
         noise: NoiseUse::Diagnostics,
         takes_order: true,
         takes_backend: false,

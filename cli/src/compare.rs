@@ -42,7 +42,7 @@ use std::time::Instant;
 /// Cramér–Rao standard deviations.
 #[derive(Args, Debug)]
 #[command(
-    group(ArgGroup::new("source").required(true).args(["input", "trials"])),
+    group(ArgGroup::new("source").required(true).args(["input", "trials", "plan"])),
     after_help = crate::EXIT_CODES
 )]
 pub struct CompareArgs {
@@ -94,6 +94,16 @@ pub struct CompareArgs {
     /// With a snapshot --input: element spacing D of the array in wavelengths (angles in the report).
     #[arg(long, value_name = "D", requires = "input", allow_hyphen_values = true)]
     spacing: Option<f64>,
+    /// A benchmark campaign described by a JSON plan (grid of conditions, methods with settings,
+    /// draws, seed; layout in the library's `eval::campaign` docs), run in parallel on all cores.
+    /// Needs --out; prints one summary row per condition and method.
+    #[arg(long, requires = "out",
+          conflicts_with_all = ["methods", "solver", "order", "fc", "domain", "samples", "estimate_sigma", "SceneArgs"])]
+    plan: Option<PathBuf>,
+    /// With --plan: file for the per-trial records, one row per trial × true line (CSV, or JSON
+    /// Lines when the name ends in `.jsonl`).
+    #[arg(long, requires = "plan")]
+    out: Option<PathBuf>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = ReportFormat::Text)]
     format: ReportFormat,
@@ -153,6 +163,9 @@ pub(crate) fn build(
 }
 
 pub fn run(a: CompareArgs) -> Result<(), Failure> {
+    if let (Some(plan), Some(out)) = (&a.plan, &a.out) {
+        return crate::campaign::run_plan(plan, out, a.format);
+    }
     let methods = method_list(&a.methods)?;
     if let Some(n) = a.order {
         if n == 0 {

@@ -24,6 +24,7 @@ mod array_plot;
 mod array_recover;
 mod array_simulate;
 mod bound;
+mod campaign;
 mod compare;
 mod input;
 mod plot;

@@ -33,6 +33,19 @@ pub(crate) fn noise_ball_radius(sigma: f64, m: usize) -> f64 {
     sigma * (m + 2.0 * m.sqrt()).sqrt()
 }
 
+/// The data-fit ball of the record `data` at noise level `σ`: [`noise_ball_radius`] for complex data;
+/// for a real-valued record (real noise of variance `σ²`, so `‖n‖²/σ²` is χ² with `m` degrees of
+/// freedom, standard deviation `√(2m)`) the same mean plus two standard deviations,
+/// `δ = σ √(m + 2√(2m))`. The one entry point of the constrained TV problem and `greedy`.
+pub(crate) fn noise_ball_for(data: &crate::model::Measurements, sigma: f64) -> f64 {
+    let m = data.len() as f64;
+    if data.is_real() {
+        sigma * (m + 2.0 * (2.0 * m).sqrt()).sqrt()
+    } else {
+        noise_ball_radius(sigma, data.len())
+    }
+}
+
 pub(crate) mod band;
 pub(crate) mod budget;
 pub(crate) mod criteria;

@@ -50,10 +50,12 @@ pub fn estimate_snapshot_sigma(data: &Snapshots) -> Result<SigmaEstimate> {
     let eig = SymmetricEigen::new(data.sample_covariance());
     let mut lambda: Vec<f64> = eig.eigenvalues.iter().map(|&x| x.max(0.0)).collect();
     lambda.sort_by(|a, b| b.total_cmp(a));
-    let sv: Vec<f64> = lambda.iter().map(|x| x.sqrt()).collect();
-    let order = if looks_exact(&sv) {
+    // The rank rule on the eigenvalues themselves: the covariance's rounding is ε relative to λ_1
+    // (√ε in singular-value terms, above the rule's 1e-10), so exact data are judged on λ.
+    let exact = looks_exact(&lambda);
+    let order = if exact {
         crate::kernels::rank::numerical_rank(
-            &sv,
+            &lambda,
             crate::kernels::rank::DEFAULT_RANK_TOLERANCE,
             p - 1,
         )
@@ -61,7 +63,7 @@ pub fn estimate_snapshot_sigma(data: &Snapshots) -> Result<SigmaEstimate> {
         mdl(&lambda, l, p - 1)
     };
     let noise = &lambda[order..];
-    let sigma = if looks_exact(&sv) {
+    let sigma = if exact {
         0.0
     } else {
         (noise.iter().sum::<f64>() / noise.len() as f64).sqrt()

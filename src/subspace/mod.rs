@@ -106,6 +106,7 @@ use std::time::Instant;
 /// estimated unless given: by the numerical rank for exact data, by MDL otherwise
 /// ([`OrderSelection::Auto`]).
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
 pub struct SubspaceSettings {
     /// Rows `L` of the Hankel data matrix (window length; Hua & Sarkar's pencil parameter is `L − 1`).
     /// `None` (the default): `L = ⌊N/2⌋ + 1`, the square (or nearly square) matrix that allows the most

@@ -59,7 +59,8 @@ impl Tv {
         self
     }
 
-    /// Radius `δ = σ √(|K| + 2√|K|)` of the data-fit ball for `|K| = m` measurements.
+    /// Radius `δ = σ √(|K| + 2√|K|)` of the data-fit ball for `|K| = m` complex measurements (a
+    /// real-valued record uses `σ √(m + 2√(2m))`, see [`Problem::for_noise`]).
     pub fn delta(sigma: f64, m: usize) -> f64 {
         crate::kernels::noise_ball_radius(sigma, m)
     }
@@ -72,7 +73,7 @@ impl Estimator for Tv {
 
     fn estimate(&self, data: &Measurements) -> Result<Estimate> {
         run(self.name(), data, self.noise, &self.settings, |sigma| {
-            Ok(Problem::for_noise(sigma, data.len()))
+            Ok(Problem::for_noise(sigma, data))
         })
     }
 }
@@ -249,7 +250,7 @@ impl Estimator for Sfw {
         }
         let settings = self.settings.with_backend(Backend::SlidingFrankWolfe);
         run(self.name(), data, self.noise, &settings, |sigma| {
-            Ok(Problem::for_noise(sigma, data.len()))
+            Ok(Problem::for_noise(sigma, data))
         })
     }
 }

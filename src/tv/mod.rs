@@ -102,13 +102,14 @@ impl Problem {
         }
     }
 
-    /// The problem [`Tv`] and [`Sfw`] solve at noise level `sigma` (`None`: exact data) with `m`
-    /// measurements: exact, or constrained with `δ = σ √(m + 2√m)` (module docs).
-    pub fn for_noise(sigma: Option<f64>, m: usize) -> Self {
+    /// The problem [`Tv`] and [`Sfw`] solve on `data` at noise level `sigma` (`None`: exact data):
+    /// exact, or constrained with `δ = σ √(m + 2√m)` for `m` complex measurements (module docs) and
+    /// `δ = σ √(m + 2√(2m))` for a real-valued record (real noise: χ² with `m` degrees of freedom).
+    pub fn for_noise(sigma: Option<f64>, data: &Measurements) -> Self {
         match sigma {
             None => Problem::Exact,
             Some(s) => Problem::Constrained {
-                delta: crate::kernels::noise_ball_radius(s, m),
+                delta: crate::kernels::noise_ball_for(data, s),
             },
         }
     }
