@@ -117,8 +117,21 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             let t = Instant::now();
             let e = estimator.estimate(&sample.data)?;
             let seconds = t.elapsed().as_secs_f64();
+            // Largest distance from a true spike to the nearest recovered one, in units of 1/fc.
+            let worst = sample
+                .truth
+                .iter()
+                .map(|s| {
+                    e.spikes
+                        .iter()
+                        .map(|f| finespike::wrap_distance(f.position, s.position))
+                        .fold(f64::INFINITY, f64::min)
+                })
+                .fold(0.0, f64::max)
+                * size as f64;
             println!(
-                "{what} fc {size} (N = {}), {count} spikes: {seconds:.4} s, peak {} MB, status {}, {} spikes",
+                "{what} fc {size} (N = {}), {count} spikes: {seconds:.4} s, peak {} MB, status {}, {} spikes, \
+                 worst position error {worst:.1e}/fc",
                 2 * size + 1,
                 peak_memory_mb().map_or("n/a".to_string(), |m| format!("{m:.0}")),
                 e.status,

@@ -35,6 +35,7 @@ pub(crate) fn noise_ball_radius(sigma: f64, m: usize) -> f64 {
 
 pub(crate) mod band;
 pub(crate) mod budget;
+pub(crate) mod cg;
 pub(crate) mod criteria;
 pub(crate) mod hankel;
 pub(crate) mod hankel_svd;
