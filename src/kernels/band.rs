@@ -70,18 +70,33 @@ pub(crate) fn residual_on(
 ) -> Vec<Complex64> {
     const CHUNK: usize = 1024;
     let mut r = y.to_vec();
-    r.par_chunks_mut(CHUNK)
-        .zip(ks.par_chunks(CHUNK))
-        .for_each(|(rc, kc)| {
-            let mut col = vec![Complex64::new(0.0, 0.0); kc.len()];
-            for (&t, a) in tau.iter().zip(amp) {
-                exp_sweep(kc, t, &mut col);
-                for (rk, z) in rc.iter_mut().zip(&col) {
-                    *rk -= z.conj() * a;
-                }
+    let chunk = |(rc, kc): (&mut [Complex64], &[i64])| {
+        let mut col = vec![Complex64::new(0.0, 0.0); kc.len()];
+        for (&t, a) in tau.iter().zip(amp) {
+            exp_sweep(kc, t, &mut col);
+            for (rk, z) in rc.iter_mut().zip(&col) {
+                *rk -= z.conj() * a;
             }
-        });
+        }
+    };
+    if parallel_pays(tau.len() * ks.len()) {
+        r.par_chunks_mut(CHUNK)
+            .zip(ks.par_chunks(CHUNK))
+            .for_each(chunk);
+    } else {
+        r.chunks_mut(CHUNK).zip(ks.chunks(CHUNK)).for_each(chunk);
+    }
     r
+}
+
+/// Work (complex multiply-adds) from which a product is spread over the cores: below it the
+/// hand-off to rayon's workers costs more than it saves, and on a busy machine a wake-up can take
+/// milliseconds.
+pub(crate) const PARALLEL_WORK: usize = 1 << 21;
+
+/// True when `work` multiply-adds are worth spreading over the cores ([`PARALLEL_WORK`]).
+pub(crate) fn parallel_pays(work: usize) -> bool {
+    work >= PARALLEL_WORK
 }
 
 /// `[D_0(t), D_1(t), D_2(t)]`, `D_p(t) = Σ_{k=a}^{b} k^p exp(i2πkt)`, for the contiguous band `a..=b`
@@ -284,23 +299,25 @@ impl Model {
         let mut out = [vec![zero; s], vec![zero; s], vec![zero; s]];
         let d = Complex64::new(0.0, 2.0 * PI);
         // One spike per task (each sum in a fixed order: the result does not depend on the threads).
-        let sums: Vec<[Complex64; 3]> = tau
-            .par_iter()
-            .map_init(
-                || vec![zero; self.len()],
-                |col, &t| {
-                    self.exp_column(t, col);
-                    let (mut p0, mut p1, mut p2) = (zero, zero, zero);
-                    for ((z, wk), &k) in col.iter().zip(w).zip(&self.kf) {
-                        let v = wk * z;
-                        p0 += v;
-                        p1 += v * k;
-                        p2 += v * (k * k);
-                    }
-                    [p0, d * p1, d * d * p2]
-                },
-            )
-            .collect();
+        let one = |col: &mut Vec<Complex64>, &t: &f64| {
+            self.exp_column(t, col);
+            let (mut p0, mut p1, mut p2) = (zero, zero, zero);
+            for ((z, wk), &k) in col.iter().zip(w).zip(&self.kf) {
+                let v = wk * z;
+                p0 += v;
+                p1 += v * k;
+                p2 += v * (k * k);
+            }
+            [p0, d * p1, d * d * p2]
+        };
+        let sums: Vec<[Complex64; 3]> = if parallel_pays(s * self.len()) {
+            tau.par_iter()
+                .map_init(|| vec![zero; self.len()], one)
+                .collect()
+        } else {
+            let mut col = vec![zero; self.len()];
+            tau.iter().map(|t| one(&mut col, t)).collect()
+        };
         for (j, v) in sums.into_iter().enumerate() {
             out[0][j] = v[0];
             out[1][j] = v[1];
@@ -321,10 +338,15 @@ impl Model {
         let s = tau.len();
         let orders = orders.min(3);
         let mut g: Vec<Mat<c64>> = (0..orders).map(|_| Mat::<c64>::zeros(s, s)).collect();
-        let rows: Vec<Vec<[Complex64; 3]>> = (0..s)
-            .into_par_iter()
-            .map(|j| (j..s).map(|l| self.kernel_sums(tau[l] - tau[j])).collect())
-            .collect();
+        let row = |j: usize| -> Vec<[Complex64; 3]> {
+            (j..s).map(|l| self.kernel_sums(tau[l] - tau[j])).collect()
+        };
+        // A kernel sum costs a few dozen multiply-adds.
+        let rows: Vec<Vec<[Complex64; 3]>> = if parallel_pays(16 * s * s) {
+            (0..s).into_par_iter().map(row).collect()
+        } else {
+            (0..s).map(row).collect()
+        };
         for (j, row) in rows.iter().enumerate() {
             for (l, d) in (j..s).zip(row) {
                 for (p, gp) in g.iter_mut().enumerate() {

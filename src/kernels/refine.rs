@@ -10,7 +10,7 @@
 //! interior point's position error (about the square root of its tolerance) down to rounding level.
 
 use crate::error::{check, Result};
-use crate::kernels::band::{dirichlet_sums, exp_sweep, residual_on};
+use crate::kernels::band::{dirichlet_sums, exp_sweep, parallel_pays, residual_on};
 use crate::kernels::cg::{solve_spd, ITERATIVE_FROM};
 use crate::model::{atom, wrap, wrap_difference, Measurements, Spike, Spikes};
 use faer::linalg::solvers::Solve;
@@ -315,25 +315,32 @@ fn refine_large(
     let mut lambda = 1e-3;
     let mut accepted = 0;
     // Rounding floor of ‖r‖: each r_k carries about ANCHOR·ε·(Σ|a_j| + |y_k|) from the recurrences,
-    // over |K| terms. Below it a "decrease" is rounding noise, so the iteration stops there.
+    // over |K| terms; a factor 2 for safety, as in the solver's certificate floor. Below it a
+    // "decrease" is rounding noise, so the iteration stops there.
     let ymax = y.iter().map(|v| v.norm()).fold(0.0, f64::max);
     let floor = |amp: &[Complex64]| {
         let l1: f64 = amp.iter().map(|a| a.norm()).sum();
-        crate::kernels::band::ANCHOR as f64 * f64::EPSILON * (ks.len() as f64).sqrt() * (l1 + ymax)
+        2.0 * crate::kernels::band::ANCHOR as f64
+            * f64::EPSILON
+            * (ks.len() as f64).sqrt()
+            * (l1 + ymax)
     };
     for _ in 0..settings.max_iter {
         if cost <= floor(&amp) {
             break;
         }
         let mut jtj = Mat::<f64>::zeros(p, p);
-        let rows: Vec<Vec<[Complex64; 3]>> = (0..s)
-            .into_par_iter()
-            .map(|j| {
-                (j..s)
-                    .map(|l| dirichlet_sums(kmin, kmax, pos[j] - pos[l]))
-                    .collect()
-            })
-            .collect();
+        let row = |j: usize| -> Vec<[Complex64; 3]> {
+            (j..s)
+                .map(|l| dirichlet_sums(kmin, kmax, pos[j] - pos[l]))
+                .collect()
+        };
+        // A Dirichlet sum costs a few dozen multiply-adds.
+        let rows: Vec<Vec<[Complex64; 3]>> = if parallel_pays(16 * s * s) {
+            (0..s).into_par_iter().map(row).collect()
+        } else {
+            (0..s).map(row).collect()
+        };
         for (j, row) in rows.iter().enumerate() {
             for (l, &d) in (j..s).zip(row) {
                 for (jj, ll, dd) in [(j, l, d), (l, j, d.map(|v| v.conj()))] {
