@@ -18,10 +18,12 @@
 use faer::linalg::matmul::matmul;
 use faer::{Accum, MatRef, Par};
 
-/// Supports from this many unknowns on (`3s` for the slide and the refinement, `3s`/`4s` for the
-/// certificates) are solved by [`solve_spd`] instead of a dense Cholesky factorisation. Measured
-/// switch point on the dense invented scenes (fc/4 spikes 2/fc apart): at `n ≈ 300` both take about
-/// the same time; the factorisation's `n³` wins below, the `O(n²)` iterations above.
+/// Systems from this many unknowns on (`3s` for the slide and the refinement, `3s`/`4s` for the
+/// certificates, `2s` for the least squares of `lstsq`: 150 spikes) are solved by [`solve_spd`]
+/// instead of a dense Cholesky factorisation. Chosen, not timed: the factorisation's `n³/3` flops equal
+/// the `2kn²` of `k` iterations at `n ≈ 6k`, and on the dense invented scenes `k` was 10–20 (counted),
+/// so the iterations win from about `n ≈ 120`; 300 leaves the supports of every existing test on the
+/// dense path.
 pub(crate) const ITERATIVE_FROM: usize = 300;
 
 /// Why a conjugate-gradient solve failed.

@@ -39,7 +39,7 @@ fn solve(phi: Mat<c64>, rhs: impl Fn(usize) -> Complex64) -> Option<Vec<Complex6
 /// Supports from this many spikes on, on a contiguous band and separated by at least
 /// [`NORMAL_EQUATIONS_SEPARATION`]`/|K|`, are fitted through the normal equations
 /// ([`by_normal_equations`]).
-const NORMAL_EQUATIONS_FROM: usize = ITERATIVE_FROM / 3;
+const NORMAL_EQUATIONS_FROM: usize = ITERATIVE_FROM / 2;
 
 /// Minimum wrap-around separation, in units of `1/|K|`, for the normal equations. For atoms on `|K|`
 /// consecutive frequencies at separation `Δ > 1/(|K| − 1)`, the squared singular values of `Φ` lie in
@@ -272,10 +272,10 @@ mod tests {
     use super::*;
     use crate::model::{forward, Domain};
 
-    /// An invented exact scene of 110 spikes at fc = 250 (about 2.3/fc apart): large enough for the
-    /// large-support paths (3s ≥ ITERATIVE_FROM).
+    /// An invented exact scene of 160 spikes at fc = 250 (at least 0.8/160 ≥ 2/|K| apart): large
+    /// enough for the normal equations (2s ≥ ITERATIVE_FROM).
     fn large_scene() -> (Measurements, Spikes) {
-        let s = 110;
+        let s = 160;
         let fc = 250i64;
         let pos: Vec<f64> = (0..s)
             .map(|j| (j as f64 + 0.1 * (j as f64).sin()) / s as f64 + 0.01)
@@ -293,7 +293,7 @@ mod tests {
     }
 
     /// The normal equations (closed-form Gram, conjugate gradients) against the generating amplitudes
-    /// and against the QR solve, on a separated support of 110 spikes.
+    /// and against the QR solve, on a separated support of 160 spikes.
     #[test]
     fn normal_equations_match_qr_and_truth() {
         let (data, truth) = large_scene();
