@@ -75,7 +75,7 @@ impl BlockJacobi {
                         v -= l[i * b + k] * l[j * b + k];
                     }
                     if i == j {
-                        if !(v > 0.0) {
+                        if v.is_nan() || v <= 0.0 {
                             return Err(CgFailure::NotPositive);
                         }
                         l[i * b + i] = v.sqrt();

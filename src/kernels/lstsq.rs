@@ -67,7 +67,7 @@ fn by_normal_equations(ks: &[i64], y: &[Complex64], tau: &[f64]) -> Option<Vec<C
         .windows(2)
         .map(|w| w[1] - w[0])
         .fold(wrap_gap, f64::min);
-    if !(gap * m as f64 >= NORMAL_EQUATIONS_SEPARATION) {
+    if gap.is_nan() || gap * (m as f64) < NORMAL_EQUATIONS_SEPARATION {
         return None;
     }
     // Real form of the Hermitian system G a = b: [Re G, −Im G; Im G, Re G] [Re a; Im a] = [Re b; Im b],
