@@ -2,7 +2,7 @@
 //! a compact real form (`compact`: one PSD block of size `N + 2`), solved by clarabel's interior
 //! point; the support is read from the maxima of the dual polynomial that reach modulus one.
 
-mod clarabel_adapter;
+pub(crate) mod clarabel_adapter;
 pub(crate) mod compact;
 
 use super::settings::TvSettings;
