@@ -138,3 +138,119 @@ fn interior_point_matches_cvxpy() {
 fn sliding_matches_cvxpy() {
     check_against_reference(Backend::SlidingFrankWolfe);
 }
+
+/// Every true position matched by a found source within 4 of its conditional-CRB standard
+/// deviations, and no unmatched source with power at least 1 % of the weakest true one.
+fn check_acceptance(est: &ArrayEstimate, truth: &[f64], weakest_power: f64, label: &str) {
+    let mut used = vec![false; est.sources.len()];
+    for &t in truth {
+        let (j, d) = est
+            .sources
+            .iter()
+            .enumerate()
+            .filter(|(j, _)| !used[*j])
+            .map(|(j, s)| (j, wrap_distance(s.position, t)))
+            .min_by(|a, b| a.1.total_cmp(&b.1))
+            .unwrap_or_else(|| panic!("{label}: no source left for {t}"));
+        let sd = est.sources[j]
+            .crb_std_position
+            .expect("a noise level was estimated");
+        assert!(
+            d <= 4.0 * sd,
+            "{label}: {t} found at {} ({:.2} CRB sd)",
+            est.sources[j].position,
+            d / sd
+        );
+        used[j] = true;
+    }
+    for (s, u) in est.sources.iter().zip(&used) {
+        assert!(
+            *u || s.power < 0.01 * weakest_power,
+            "{label}: spurious source at {} with power {}",
+            s.position,
+            s.power
+        );
+    }
+}
+
+/// The four acceptance cases (invented scenes, seeded): order unknown, σ estimated, `sdp` with
+/// the automatic backend.
+#[test]
+fn acceptance_cases_sdp() {
+    let cases: Vec<(usize, usize, Vec<f64>, f64, SourceCorrelation)> = vec![
+        (
+            16,
+            50,
+            vec![-0.3, 0.05, 0.27],
+            10.0,
+            SourceCorrelation::Uncorrelated,
+        ),
+        (
+            12,
+            40,
+            vec![0.1, 0.1 + 0.7 / 12.0],
+            20.0,
+            SourceCorrelation::Uncorrelated,
+        ),
+        (
+            16,
+            60,
+            vec![-0.1, -0.1 + 1.5 / 16.0],
+            20.0,
+            SourceCorrelation::Coherent,
+        ),
+        (
+            20,
+            200,
+            vec![-0.35, -0.1, 0.12, 0.33],
+            0.0,
+            SourceCorrelation::Uncorrelated,
+        ),
+    ];
+    for (m, l, pos, snr, corr) in cases {
+        let draw = ArrayScene::new(m, l, &pos)
+            .unwrap()
+            .with_snr_db(snr)
+            .unwrap()
+            .with_correlation(corr)
+            .unwrap()
+            .with_seed(7)
+            .draw()
+            .unwrap();
+        let est = Tv::default().estimate_snapshots(&draw.data).unwrap();
+        let label = format!("M = {m}, L = {l}, {snr} dB, {corr:?}");
+        assert_eq!(est.status, Status::Solved, "{label}: {:?}", est.diagnostics);
+        assert!(est.diagnostics.sigma_estimated);
+        let weakest = (0..draw.amplitudes.nrows())
+            .map(|j| draw.amplitudes.row(j).norm_squared() / l as f64)
+            .fold(f64::INFINITY, f64::min);
+        check_acceptance(&est, &draw.positions, weakest, &label);
+    }
+}
+
+/// A fully coherent pair (one source seen twice, the snapshot matrix of rank one) from exact data:
+/// both backends recover it without smoothing, to rounding.
+#[test]
+fn coherent_pair_needs_no_smoothing() {
+    let pos = [0.21, 0.21 + 1.5 / 16.0];
+    let draw = ArrayScene::new(16, 30, &pos)
+        .unwrap()
+        .with_correlation(SourceCorrelation::Coherent)
+        .unwrap()
+        .with_seed(4)
+        .draw()
+        .unwrap();
+    let mut truth = draw.positions.clone();
+    truth.sort_by(f64::total_cmp);
+    for est in [
+        Tv::exact().estimate_snapshots(&draw.data).unwrap(),
+        Sfw::exact().estimate_snapshots(&draw.data).unwrap(),
+    ] {
+        assert_eq!(est.status, Status::Solved, "{:?}", est.diagnostics);
+        let found = est.positions();
+        assert_eq!(found.len(), 2, "{found:?}");
+        for (f, t) in found.iter().zip(&truth) {
+            assert!(wrap_distance(*f, *t) < 1e-9, "{f} against {t}");
+        }
+    }
+}

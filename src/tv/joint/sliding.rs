@@ -127,10 +127,9 @@ impl Solver<'_> {
         let mut x = st.b.clone();
         let mut z = x.clone();
         let mut t = 1.0_f64;
-        for _ in 0..20_000 {
+        for it in 0..20_000 {
             let mut next = &z - (&g * &z - &c).scale(step);
             prox(&mut next);
-            let change = (&next - &x).norm();
             // Gradient restart: the momentum points uphill.
             let uphill = ((&z - &next).adjoint() * (&next - &x)).trace().re > 0.0;
             let t_next = if uphill {
@@ -142,8 +141,23 @@ impl Solver<'_> {
             z = &next + (&next - &x).scale(momentum);
             x = next;
             t = t_next;
-            if change <= 1e-14 * (1.0 + x.norm()) {
-                break;
+            // Optimality (every 20 steps): with the correlations E = Aᴴ(Ỹ − AB), a nonzero row has
+            // E_j = τ B_j/‖B_j‖, a zero row ‖E_j‖ ≤ τ.
+            if it % 20 == 19 {
+                let e = &c - &g * &x;
+                let worst = (0..x.nrows())
+                    .map(|j| {
+                        let nb = x.row(j).norm();
+                        if nb > 0.0 {
+                            (e.row(j) - x.row(j).scale(tau / nb)).norm()
+                        } else {
+                            (e.row(j).norm() - tau).max(0.0)
+                        }
+                    })
+                    .fold(0.0, f64::max);
+                if worst <= 1e-11 * tau.max(f64::MIN_POSITIVE) {
+                    break;
+                }
             }
         }
         st.b = x;
@@ -203,6 +217,12 @@ impl Solver<'_> {
 
     /// One penalised solve at weight `tau` from `st` (module docs, 1–4).
     fn penalised(&mut self, st: &mut State, tau: f64) -> Penalised {
+        // A warm start comes from another weight: its amplitudes are re-optimised first (the
+        // certificate alone does not check the optimality conditions on the support).
+        if !st.pos.is_empty() {
+            self.amplitudes(st, tau);
+            self.prune(st);
+        }
         loop {
             let r = self.residual(st);
             let q = self.poly(&r.unscale(tau));
@@ -375,36 +395,47 @@ pub(crate) fn solve(
             (tau, out)
         }
         Problem::Constrained { delta } => {
-            // ‖R(τ)‖ − δ changes sign on (0, τ_max): secant on ln τ, kept inside a bracket.
-            let (mut lo, mut hi) = (1e-12 * tau_max, tau_max);
+            // ‖R(τ)‖ − δ grows with τ and is positive at τ_max: halve τ until it is not (a path of
+            // warm starts from the sparse end), then regula falsi on ln τ with the Illinois
+            // modification (Dowell & Jarratt 1971, BIT 11) inside the bracket.
             let mut tau = 0.5 * tau_max;
             let mut out = solver.penalised(&mut st, tau);
-            let mut prev: Option<(f64, f64)> = None;
-            for _ in 0..100 {
-                let h = solver.residual(&st).norm() - delta;
-                if h.abs() <= 1e-9 * delta.max(ynorm * 1e-3) {
+            let mut h = solver.residual(&st).norm() - delta;
+            let tol = 1e-9 * delta.max(ynorm * 1e-3);
+            let (mut hi, mut h_hi) = (tau, h);
+            while h > tol && tau > 1e-12 * tau_max && solver.iterations < solver.max_iter {
+                hi = tau;
+                h_hi = h;
+                tau *= 0.5;
+                out = solver.penalised(&mut st, tau);
+                h = solver.residual(&st).norm() - delta;
+            }
+            let (mut lo, mut h_lo) = (tau, h);
+            let mut side = 0i8;
+            while h.abs() > tol && h_hi > 0.0 && solver.iterations < solver.max_iter {
+                let (x0, x1) = (lo.ln(), hi.ln());
+                let x = x1 - h_hi * (x1 - x0) / (h_hi - h_lo);
+                let next = x.exp();
+                if !(next > lo && next < hi) || hi / lo < 1.0 + 1e-14 {
                     break;
                 }
-                if h > 0.0 {
-                    hi = tau;
-                } else {
-                    lo = tau;
-                }
-                let mut next = match prev {
-                    Some((t0, h0)) if h != h0 => {
-                        let (x0, x1) = (t0.ln(), tau.ln());
-                        (x1 - h * (x1 - x0) / (h - h0)).exp()
-                    }
-                    _ => (lo * hi).sqrt(),
-                };
-                if !(next > lo && next < hi) {
-                    next = (lo * hi).sqrt();
-                }
-                prev = Some((tau, h));
                 tau = next;
                 out = solver.penalised(&mut st, tau);
-                if solver.iterations >= solver.max_iter || hi / lo < 1.0 + 1e-15 {
-                    break;
+                h = solver.residual(&st).norm() - delta;
+                if h > 0.0 {
+                    hi = tau;
+                    h_hi = h;
+                    if side == 1 {
+                        h_lo *= 0.5;
+                    }
+                    side = 1;
+                } else {
+                    lo = tau;
+                    h_lo = h;
+                    if side == -1 {
+                        h_hi *= 0.5;
+                    }
+                    side = -1;
                 }
             }
             (tau, out)
