@@ -47,11 +47,39 @@ impl VectorPolynomial {
         self.columns.first().map_or(1, |c| c.coeffs().len())
     }
 
-    /// `(g, g', g'')` at `f`, `g = ‖Q(f)‖²`.
+    /// `(g, g', g'')` at `f`, `g = ‖Q(f)‖²`: the exponentials `e^{i2πkf}` once, then every column.
     fn eval_sq(&self, f: f64) -> [f64; 3] {
+        let Some(first) = self.columns.first() else {
+            return [0.0; 3];
+        };
+        let kmin = first.kmin();
+        let n = first.coeffs().len();
+        let step = Complex64::from_polar(1.0, 2.0 * PI * f);
+        let mut e = Complex64::from_polar(1.0, 2.0 * PI * f * kmin as f64);
+        let mut terms = Vec::with_capacity(n);
+        for i in 0..n {
+            // Re-anchor every 64 terms so the recurrence's rounding does not grow.
+            if i % 64 == 0 {
+                e = Complex64::from_polar(1.0, 2.0 * PI * f * (kmin + i as i64) as f64);
+            }
+            terms.push((e, 2.0 * PI * (kmin + i as i64) as f64));
+            e *= step;
+        }
         let mut out = [0.0; 3];
+        let i = Complex64::new(0.0, 1.0);
         for c in &self.columns {
-            let (q, d1, d2) = c.eval_derivatives(f);
+            let (mut q, mut d1, mut d2) = (
+                Complex64::new(0.0, 0.0),
+                Complex64::new(0.0, 0.0),
+                Complex64::new(0.0, 0.0),
+            );
+            for (&ck, &(ek, w)) in c.coeffs().iter().zip(&terms) {
+                let t = ck * ek;
+                q += t;
+                d1 += t * w;
+                d2 -= t * (w * w);
+            }
+            d1 *= i;
             out[0] += q.norm_sqr();
             out[1] += 2.0 * (q.conj() * d1).re;
             out[2] += 2.0 * (d1.norm_sqr() + (q.conj() * d2).re);

@@ -18,7 +18,7 @@
 //!
 //! The dual of each is `max Re⟨V, Y⟩ (− δ‖V‖_F, resp. − τ/2·‖V‖²…)` over `V` on `K` with
 //! `sup_f ‖a(f)ᴴV‖₂ ≤ 1` (Li & Chi 2016, eq. (13)); the support is where the dual vector polynomial
-//! `Q(f) = a(f)ᴴV` reaches norm one ([`certificate`]).
+//! `Q(f) = a(f)ᴴV` reaches norm one (module `certificate`).
 //!
 //! # Dimension reduction
 //!
@@ -39,7 +39,7 @@
 //! # Noise level and weights
 //!
 //! - `sdp` / `sfw` with noise of level `σ`: the constrained problem with `δ² = σ²(n + 2√n)`,
-//!   `n = |K|·L`, the χ² radius of [`crate::kernels`] (common practice). The count is that of the
+//!   `n = |K|·L`, the χ² radius of the single-record problems (common practice). The count is that of the
 //!   original residual `Y − AS`, whose `|K|·L` complex entries are the noise; the reduction does not
 //!   change it, since `‖Ỹ‖_F = ‖Y‖_F`. The reduced residual has `|K|·r` entries, which equals `|K|·L`
 //!   whenever `L ≤ |K|` (noisy data have full rank `r = L`); for `L > |K|`, `r = |K|` and a radius
@@ -49,7 +49,7 @@
 //!
 //! # Solvers
 //!
-//! [`sdp`]: the compact SDP through clarabel at small sizes (PSD block `N + 2r`); [`sliding`]: a
+//! `sdp`: the compact SDP through clarabel at small sizes (PSD block `N + 2r`); `sliding`: a
 //! group Sliding Frank–Wolfe, certified by `sup_f ‖Q(f)‖₂ ≤ 1 + ε` with `Q` from the residual.
 //! [`Backend::Auto`] takes the interior point up to a block of [`AUTO_MAX_BLOCK`].
 

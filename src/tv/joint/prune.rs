@@ -14,7 +14,7 @@
 //! [`super::tau`] (500 draws): a false alarm rate of about 1 % per estimate (common practice for a
 //! detection level).
 //!
-//! The rise is computed on the reduced data `Ỹ` ([`super::Reduced`]): `‖P⊥Y‖_F = ‖P⊥Ỹ‖_F`.
+//! The rise is computed on the reduced data `Ỹ` (the dimension reduction of [`super`]): `‖P⊥Y‖_F = ‖P⊥Ỹ‖_F`.
 
 use super::{tau, Reduced};
 use crate::error::{Error, Result};

@@ -33,6 +33,7 @@ use super::polish::{best_position, steering};
 use super::{JointSolution, Reduced};
 use crate::error::Result;
 use crate::estimator::Status;
+use crate::model::atom;
 use crate::tv::settings::TvSettings;
 use crate::tv::{relative_gap, Problem};
 use nalgebra::DMatrix;
@@ -47,6 +48,13 @@ const CERT_TOL: f64 = 1e-6;
 /// Relative residual `‖R‖/‖Ỹ‖` at which exact-problem continuation stops (the support is then fitted
 /// exactly by the least-squares polish).
 const EXACT_RESIDUAL: f64 = 1e-6;
+
+/// Amplitude-step accuracy (relative to `τ`) and step limit while the positions still slide…
+const COARSE: f64 = 1e-7;
+const COARSE_STEPS: usize = 2_000;
+/// …and once they have settled.
+const FINE: f64 = 1e-11;
+const FINE_STEPS: usize = 20_000;
 
 /// Atoms closer than `MERGE/N` are merged.
 const MERGE: f64 = 1e-3;
@@ -98,8 +106,9 @@ impl Solver<'_> {
         b.row_iter().map(|r| r.norm()).sum()
     }
 
-    /// Amplitude step (module docs, 3), warm-started from `st.b`.
-    fn amplitudes(&self, st: &mut State, tau: f64) {
+    /// Amplitude step (module docs, 3), warm-started from `st.b`, until the optimality conditions
+    /// hold to `rel·τ` or after `max_steps` steps.
+    fn amplitudes(&self, st: &mut State, tau: f64, rel: f64, max_steps: usize) {
         if st.pos.is_empty() {
             return;
         }
@@ -127,11 +136,11 @@ impl Solver<'_> {
         let mut x = st.b.clone();
         let mut z = x.clone();
         let mut t = 1.0_f64;
-        for it in 0..20_000 {
+        for it in 0..max_steps {
             let mut next = &z - (&g * &z - &c).scale(step);
             prox(&mut next);
             // Gradient restart: the momentum points uphill.
-            let uphill = ((&z - &next).adjoint() * (&next - &x)).trace().re > 0.0;
+            let uphill = (&z - &next).dotc(&(&next - &x)).re > 0.0;
             let t_next = if uphill {
                 1.0
             } else {
@@ -155,7 +164,7 @@ impl Solver<'_> {
                         }
                     })
                     .fold(0.0, f64::max);
-                if worst <= 1e-11 * tau.max(f64::MIN_POSITIVE) {
+                if worst <= rel * tau.max(f64::MIN_POSITIVE) {
                     break;
                 }
             }
@@ -167,10 +176,19 @@ impl Solver<'_> {
     fn slide(&self, st: &mut State) -> f64 {
         let mut moved: f64 = 0.0;
         let reach = 0.25 / self.red.band_len as f64;
+        let mut r = self.residual(st);
         for j in 0..st.pos.len() {
             let bj: Vec<Complex64> = st.b.row(j).iter().copied().collect();
-            let r = self.residual(st);
             let f = best_position(self.red, &r, &bj, st.pos[j], reach);
+            if f != st.pos[j] {
+                // R += (a(f_old) − a(f_new)) b_jᵀ
+                for (i, &k) in self.red.indices.iter().enumerate() {
+                    let da = atom(k, st.pos[j]) - atom(k, f);
+                    for (l, b) in bj.iter().enumerate() {
+                        r[(i, l)] += da * b;
+                    }
+                }
+            }
             moved = moved.max(crate::model::wrap_distance(f, st.pos[j]));
             st.pos[j] = f;
         }
@@ -220,7 +238,7 @@ impl Solver<'_> {
         // A warm start comes from another weight: its amplitudes are re-optimised first (the
         // certificate alone does not check the optimality conditions on the support).
         if !st.pos.is_empty() {
-            self.amplitudes(st, tau);
+            self.amplitudes(st, tau, FINE, FINE_STEPS);
             self.prune(st);
         }
         loop {
@@ -242,10 +260,18 @@ impl Solver<'_> {
                     st.b.clone()
                         .insert_row(st.b.nrows(), Complex64::new(0.0, 0.0));
             }
-            self.amplitudes(st, tau);
+            self.amplitudes(st, tau, COARSE, COARSE_STEPS);
             for _ in 0..100 {
                 let moved = self.slide(st);
-                self.amplitudes(st, tau);
+                self.amplitudes(st, tau, COARSE, COARSE_STEPS);
+                if moved * (self.red.band_len as f64) < 1e-11 {
+                    break;
+                }
+            }
+            self.amplitudes(st, tau, FINE, FINE_STEPS);
+            for _ in 0..20 {
+                let moved = self.slide(st);
+                self.amplitudes(st, tau, FINE, FINE_STEPS);
                 if moved * (self.red.band_len as f64) < 1e-13 {
                     break;
                 }
