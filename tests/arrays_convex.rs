@@ -254,3 +254,45 @@ fn coherent_pair_needs_no_smoothing() {
         }
     }
 }
+
+/// `ast` on snapshots: the penalised problem with the Monte Carlo weight finds both sources of an
+/// invented scene and nothing spurious.
+#[test]
+fn ast_on_snapshots_finds_the_sources() {
+    let draw = ArrayScene::new(12, 20, &[0.15, 0.45])
+        .unwrap()
+        .with_snr_db(10.0)
+        .unwrap()
+        .with_seed(9)
+        .draw()
+        .unwrap();
+    let est = finespike::Ast::with_sigma(draw.sigma)
+        .estimate_snapshots(&draw.data)
+        .unwrap();
+    assert_eq!(est.status, Status::Solved, "{:?}", est.diagnostics);
+    let weakest = (0..2)
+        .map(|j| draw.amplitudes.row(j).norm_squared() / 20.0)
+        .fold(f64::INFINITY, f64::min);
+    check_acceptance(&est, &draw.positions, weakest, "ast");
+}
+
+/// Past the interior point's size limit the joint problem is refused with a typed error that names
+/// the sliding solver, before the program is built.
+#[test]
+fn interior_point_refuses_large_joint_problems() {
+    let draw = ArrayScene::new(64, 100, &[0.1])
+        .unwrap()
+        .with_snr_db(10.0)
+        .unwrap()
+        .draw()
+        .unwrap();
+    let settings = TvSettings::default().with_backend(Backend::InteriorPoint);
+    let err = Tv::with_sigma(1.0)
+        .with_settings(settings)
+        .estimate_snapshots(&draw.data)
+        .unwrap_err();
+    match err {
+        finespike::Error::TooLarge { advice, .. } => assert!(advice.contains("sfw"), "{advice}"),
+        other => panic!("expected TooLarge, got {other:?}"),
+    }
+}
