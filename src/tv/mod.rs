@@ -48,6 +48,7 @@
 
 mod estimators;
 pub mod interior;
+pub mod joint;
 mod settings;
 pub mod sliding;
 
