@@ -35,7 +35,7 @@
 use super::Reduced;
 use crate::error::{Error, Result};
 use crate::tv::interior::clarabel_adapter::{self, ConicSolution, IpmSettings};
-use crate::tv::interior::compact::{svec_index, CentroUnitary, Cone, ConicProgram};
+use crate::tv::interior::compact::{svec_index, CentroUnitary, Cone, ConicProgram, DualMap};
 use crate::tv::settings::TvSettings;
 use crate::tv::Problem;
 use num_complex::Complex64;
@@ -93,7 +93,7 @@ pub(crate) fn solve(red: &Reduced, problem: Problem, settings: &TvSettings) -> R
             time_limit: settings.time_limit,
         },
     )?;
-    let v = dual_matrix(&prog, r, &conic.z);
+    let v = dual_matrix(&prog, r, &conic.z)?;
     Ok(SdpSolution { v, conic })
 }
 
@@ -240,15 +240,22 @@ fn assemble(red: &Reduced, problem: Problem) -> ConicProgram {
         b,
         cones,
         gamma,
-        unitary,
+        dual_map: DualMap::Hermitian(unitary),
     }
 }
 
 /// `V = −U (Z_A + iZ_B)/γ` by column (module docs).
-fn dual_matrix(prog: &ConicProgram, r: usize, z: &[f64]) -> Vec<Vec<Complex64>> {
+fn dual_matrix(prog: &ConicProgram, r: usize, z: &[f64]) -> Result<Vec<Vec<Complex64>>> {
     let n = prog.n;
+    // This module builds the complex (Hermitian) form only.
+    let DualMap::Hermitian(unitary) = &prog.dual_map else {
+        return Err(Error::Numerical {
+            step: "joint interior point",
+            detail: "the program was not built in the Hermitian form".into(),
+        });
+    };
     let inv = std::f64::consts::FRAC_1_SQRT_2;
-    (0..r)
+    Ok((0..r)
         .map(|l| {
             let w: Vec<Complex64> = (0..n)
                 .map(|row| {
@@ -258,11 +265,11 @@ fn dual_matrix(prog: &ConicProgram, r: usize, z: &[f64]) -> Vec<Vec<Complex64>> 
                     )
                 })
                 .collect();
-            prog.unitary
+            unitary
                 .apply(&w)
                 .into_iter()
                 .map(|v| -v / prog.gamma)
                 .collect()
         })
-        .collect()
+        .collect())
 }
