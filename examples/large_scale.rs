@@ -9,13 +9,15 @@
 //! cargo run --release --example large_scale -- interior-point 32 # sdp through clarabel: time, peak memory
 //! cargo run --release --example large_scale -- sliding 512       # sdp through Sliding Frank–Wolfe
 //! cargo run --release --example large_scale -- sliding 4096 1024 # a dense scene: 1024 spikes 2/fc apart
+//! cargo run --release --example large_scale -- method esprit 100000 estimated # any method, 5 lines
 //! ```
 //!
 //! Run under `/usr/bin/time -v` for the peak memory (maximum resident set size).
+use finespike::registry::{configure, MethodOptions};
 use finespike::Ast;
 use finespike::Greedy;
 use finespike::Sfw;
-use finespike::{Backend, Estimator, Scenario, Tv, TvSettings};
+use finespike::{Backend, Estimator, NoiseLevel, Scenario, Tv, TvSettings};
 use std::time::Instant;
 
 /// Peak resident set size of this process, in MB (`VmHWM` of `/proc/self/status`; Linux only).
@@ -29,7 +31,11 @@ fn peak_memory_mb() -> Option<f64> {
 fn main() -> Result<(), Box<dyn std::error::Error>> {
     let args: Vec<String> = std::env::args().collect();
     let what = args.get(1).map(String::as_str).unwrap_or("sfw");
-    let size: usize = args.get(2).map(|s| s.parse()).transpose()?.unwrap_or(128);
+    // `method` takes a name in the second place; every other mode a size.
+    let size: usize = match what {
+        "method" => 0,
+        _ => args.get(2).map(|s| s.parse()).transpose()?.unwrap_or(128),
+    };
     match what {
         "sfw" | "sfw-noisy" => {
             let count: usize = args.get(3).map(|s| s.parse()).transpose()?.unwrap_or(10);
@@ -117,17 +123,82 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             let t = Instant::now();
             let e = estimator.estimate(&sample.data)?;
             let seconds = t.elapsed().as_secs_f64();
+            // Largest distance from a true spike to the nearest recovered one, in units of 1/fc.
+            let worst = sample
+                .truth
+                .iter()
+                .map(|s| {
+                    e.spikes
+                        .iter()
+                        .map(|f| finespike::wrap_distance(f.position, s.position))
+                        .fold(f64::INFINITY, f64::min)
+                })
+                .fold(0.0, f64::max)
+                * size as f64;
             println!(
-                "{what} fc {size} (N = {}), {count} spikes: {seconds:.4} s, peak {} MB, status {}, {} spikes",
+                "{what} fc {size} (N = {}), {count} spikes: {seconds:.4} s, peak {} MB, status {}, {} spikes, \
+                 worst position error {worst:.1e}/fc",
                 2 * size + 1,
                 peak_memory_mb().map_or("n/a".to_string(), |m| format!("{m:.0}")),
                 e.status,
                 e.spikes.len(),
             );
         }
+        "method" => {
+            // `method NAME N [given|estimated]`: one method of the registry on an invented record of
+            // N time samples, 5 lines 2/fc apart, 30 dB for the weakest line (light noise), σ given
+            // or estimated. A refusal (an error that names a method that can) is a result too.
+            let name = args.get(2).ok_or("method NAME N [given|estimated]")?;
+            let n: usize = args.get(3).ok_or("method NAME N")?.parse()?;
+            let given = args.get(4).map(String::as_str) != Some("estimated");
+            let scene = Scenario::time_record(n, 5)
+                .with_separation(2.0)
+                .with_snr_db(30.0)
+                .with_seed(5)
+                .generate()?;
+            let options = MethodOptions {
+                noise: if given {
+                    NoiseLevel::Known(scene.sigma)
+                } else {
+                    NoiseLevel::Estimate
+                },
+                ..MethodOptions::default()
+            };
+            let estimator = configure(name, &options)?.estimator;
+            let t = Instant::now();
+            let result = estimator.estimate(&scene.data);
+            let seconds = t.elapsed().as_secs_f64();
+            let peak = peak_memory_mb().map_or("n/a".to_string(), |m| format!("{m:.0}"));
+            let sigma = if given { "given" } else { "estimated" };
+            match result {
+                Ok(e) => {
+                    // Largest distance from a true line to the nearest recovered one, cycles/sample.
+                    let worst = scene
+                        .truth
+                        .iter()
+                        .map(|s| {
+                            e.spikes
+                                .iter()
+                                .map(|f| finespike::wrap_distance(f.position, s.position))
+                                .fold(f64::INFINITY, f64::min)
+                        })
+                        .fold(0.0, f64::max);
+                    println!(
+                        "{name} N = {n} σ {sigma}: {seconds:.3} s, peak {peak} MB, status {}, {} \
+                         lines, worst line error {worst:.1e} cycles/sample",
+                        e.status,
+                        e.spikes.len()
+                    );
+                }
+                Err(err) => println!(
+                    "{name} N = {n} σ {sigma}: refused after {seconds:.3} s, peak {peak} MB: {err}"
+                ),
+            }
+        }
         other => {
             return Err(format!(
-                "unknown mode {other}: use sfw, sfw-noisy, greedy, ast, interior-point or sliding"
+                "unknown mode {other}: use sfw, sfw-noisy, greedy, ast, interior-point, sliding or \
+                 method"
             )
             .into())
         }

@@ -20,6 +20,7 @@ use crate::model::{atom, wrap, Measurements, Spike, Spikes};
 use faer::linalg::matmul::matmul_with_conj;
 use faer::{c64, Accum, Conj, Mat, MatRef, Par};
 use num_complex::Complex64;
+use rayon::prelude::*;
 use rustfft::{Fft, FftPlanner};
 use std::f64::consts::PI;
 use std::fmt;
@@ -39,6 +40,119 @@ pub(crate) const ANCHOR: usize = 32;
 #[inline]
 pub(crate) fn cis(k: i64, t: f64) -> Complex64 {
     atom(k, t).conj()
+}
+
+/// Fill `out[i] = exp(i2πk_i t)` for the ascending indices `ks` by the anchored recurrence of the
+/// module docs (rounding error below about `ANCHOR · ε_mach`).
+pub(crate) fn exp_sweep(ks: &[i64], t: f64, out: &mut [Complex64]) {
+    let w = cis(1, t);
+    let mut z = Complex64::new(1.0, 0.0);
+    let mut prev = i64::MIN;
+    for (i, (&k, o)) in ks.iter().zip(out.iter_mut()).enumerate() {
+        if i % ANCHOR == 0 || prev.checked_add(1) != Some(k) {
+            z = cis(k, t);
+        } else {
+            z *= w;
+        }
+        *o = z;
+        prev = k;
+    }
+}
+
+/// `y_k − Σ_j a_j exp(−i2πk τ_j)` on the ascending indices `ks`, streamed: `O(|K|)` memory, the
+/// indices cut into chunks handled in parallel (rayon), each entry summed over the spikes in order
+/// (the result does not depend on the threads).
+pub(crate) fn residual_on(
+    ks: &[i64],
+    y: &[Complex64],
+    tau: &[f64],
+    amp: &[Complex64],
+) -> Vec<Complex64> {
+    const CHUNK: usize = 1024;
+    let mut r = y.to_vec();
+    let chunk = |(rc, kc): (&mut [Complex64], &[i64])| {
+        let mut col = vec![Complex64::new(0.0, 0.0); kc.len()];
+        for (&t, a) in tau.iter().zip(amp) {
+            exp_sweep(kc, t, &mut col);
+            for (rk, z) in rc.iter_mut().zip(&col) {
+                *rk -= z.conj() * a;
+            }
+        }
+    };
+    if parallel_pays(tau.len() * ks.len()) {
+        r.par_chunks_mut(CHUNK)
+            .zip(ks.par_chunks(CHUNK))
+            .for_each(chunk);
+    } else {
+        r.chunks_mut(CHUNK).zip(ks.chunks(CHUNK)).for_each(chunk);
+    }
+    r
+}
+
+/// Work (complex multiply-adds) from which a product is spread over the cores: below it the
+/// hand-off to rayon's workers costs more than it saves, and on a busy machine a wake-up can take
+/// milliseconds.
+pub(crate) const PARALLEL_WORK: usize = 1 << 21;
+
+/// True when `work` multiply-adds are worth spreading over the cores ([`PARALLEL_WORK`]).
+pub(crate) fn parallel_pays(work: usize) -> bool {
+    work >= PARALLEL_WORK
+}
+
+/// `[D_0(t), D_1(t), D_2(t)]`, `D_p(t) = Σ_{k=a}^{b} k^p exp(i2πkt)`, for the contiguous band `a..=b`
+/// in `O(1)` (the closed form of [`Model::kernel_sums`], which calls it on the centred band; the
+/// refinement calls it on the data's own band).
+pub(crate) fn dirichlet_sums(a: i64, b: i64, t: f64) -> [Complex64; 3] {
+    let (ai, bi) = (a, b);
+    let a = a as f64;
+    let b = b as f64;
+    let n = b - a + 1.0;
+    let c = 0.5 * (a + b);
+    let tr = t - t.round();
+    let u = PI * tr;
+    if (n * u).abs() < 0.1 {
+        if tr == 0.0 {
+            // Σk = nc, Σk² = Σ(k − c)² + nc² = n(n² − 1)/12 + nc².
+            return [
+                Complex64::new(n, 0.0),
+                Complex64::new(n * c, 0.0),
+                Complex64::new(n * (n * n - 1.0) / 12.0 + n * c * c, 0.0),
+            ];
+        }
+        let zero = Complex64::new(0.0, 0.0);
+        let mut out = [zero; 3];
+        let ks: Vec<i64> = (ai..=bi).collect();
+        let mut col = vec![zero; ks.len()];
+        exp_sweep(&ks, tr, &mut col);
+        for (z, &k) in col.iter().zip(&ks) {
+            let k = k as f64;
+            out[0] += z;
+            out[1] += z * k;
+            out[2] += z * (k * k);
+        }
+        return out;
+    }
+    // sin(nu) with the phase n·t reduced modulo 2 first (n·t is large for long bands).
+    let nt = n * tr;
+    let f = (PI * (nt - 2.0 * (0.5 * nt).round())).sin();
+    let fc = (PI * (nt - 2.0 * (0.5 * nt).round())).cos();
+    let (su, cu) = u.sin_cos();
+    let s0 = f / su;
+    let s1u = (n * fc - s0 * cu) / su;
+    let s2u = (1.0 - n * n) * s0 - 2.0 * (cu / su) * s1u;
+    // d/dx = ½ d/du.
+    let s1 = 0.5 * s1u;
+    let s2 = 0.25 * s2u;
+    // e^{icx} = exp(iπ(a + b)t), a + b an integer: phase reduced modulo 2.
+    let ab = a + b;
+    let ph = ab * tr;
+    let w = Complex64::from_polar(1.0, PI * (ph - 2.0 * (0.5 * ph).round()));
+    let i = Complex64::new(0.0, 1.0);
+    [
+        w * s0,
+        w * (c * s0 - i * s1),
+        w * (c * c * s0 - 2.0 * i * c * s1 - s2),
+    ]
 }
 
 /// Measurements on the centred band, normalised to unit norm, with a planned FFT for grid evaluation.
@@ -137,18 +251,7 @@ impl Model {
 
     /// Fill `out[i] = exp(i2πk'_i t)` for every measured index (see the module docs for accuracy).
     pub fn exp_column(&self, t: f64, out: &mut [Complex64]) {
-        let w = cis(1, t);
-        let mut z = Complex64::new(1.0, 0.0);
-        let mut prev = i64::MIN;
-        for (i, (&k, o)) in self.ks.iter().zip(out.iter_mut()).enumerate() {
-            if i % ANCHOR == 0 || prev.checked_add(1) != Some(k) {
-                z = cis(k, t);
-            } else {
-                z *= w;
-            }
-            *o = z;
-            prev = k;
-        }
+        exp_sweep(&self.ks, t, out);
     }
 
     /// The atom matrix `E_{kj} = exp(i2πk'τ_j)` (`|K| × s`); the forward operator is `Φ = conj(E)`.
@@ -181,6 +284,79 @@ impl Model {
     pub fn residual(&self, e: &Mat<c64>, amp: &[Complex64]) -> Vec<Complex64> {
         let model = self.forward(e, amp);
         self.y.iter().zip(model).map(|(y, m)| y - m).collect()
+    }
+
+    /// Residual `y − Φa` at positions `tau`, streamed: one exponential sweep per spike, `O(|K|)`
+    /// memory (no atom matrix).
+    pub fn residual_at(&self, tau: &[f64], amp: &[Complex64]) -> Vec<Complex64> {
+        residual_on(&self.ks, &self.y, tau, amp)
+    }
+
+    /// [`Model::correlate`] at positions `tau`, streamed (no atom matrix).
+    pub fn correlate_at(&self, tau: &[f64], w: &[Complex64]) -> [Vec<Complex64>; 3] {
+        let zero = Complex64::new(0.0, 0.0);
+        let s = tau.len();
+        let mut out = [vec![zero; s], vec![zero; s], vec![zero; s]];
+        let d = Complex64::new(0.0, 2.0 * PI);
+        // One spike per task (each sum in a fixed order: the result does not depend on the threads).
+        let one = |col: &mut Vec<Complex64>, &t: &f64| {
+            self.exp_column(t, col);
+            let (mut p0, mut p1, mut p2) = (zero, zero, zero);
+            for ((z, wk), &k) in col.iter().zip(w).zip(&self.kf) {
+                let v = wk * z;
+                p0 += v;
+                p1 += v * k;
+                p2 += v * (k * k);
+            }
+            [p0, d * p1, d * d * p2]
+        };
+        let sums: Vec<[Complex64; 3]> = if parallel_pays(s * self.len()) {
+            tau.par_iter()
+                .map_init(|| vec![zero; self.len()], one)
+                .collect()
+        } else {
+            let mut col = vec![zero; self.len()];
+            tau.iter().map(|t| one(&mut col, t)).collect()
+        };
+        for (j, v) in sums.into_iter().enumerate() {
+            out[0][j] = v[0];
+            out[1][j] = v[1];
+            out[2][j] = v[2];
+        }
+        out
+    }
+
+    /// True when [`Model::grams`] takes its entries in closed form for `s` spikes (then
+    /// [`Model::closed_grams`] needs no atom matrix).
+    pub fn grams_closed_form(&self, s: usize) -> bool {
+        self.is_contiguous() && s >= CLOSED_FORM_GRAM
+    }
+
+    /// The Gram sums of [`Model::grams`] in closed form ([`Model::kernel_sums`], `O(s²)`); only for a
+    /// contiguous band.
+    pub fn closed_grams(&self, tau: &[f64], orders: usize) -> Vec<Mat<c64>> {
+        let s = tau.len();
+        let orders = orders.min(3);
+        let mut g: Vec<Mat<c64>> = (0..orders).map(|_| Mat::<c64>::zeros(s, s)).collect();
+        let row = |j: usize| -> Vec<[Complex64; 3]> {
+            (j..s).map(|l| self.kernel_sums(tau[l] - tau[j])).collect()
+        };
+        // A kernel sum costs a few dozen multiply-adds.
+        let rows: Vec<Vec<[Complex64; 3]>> = if parallel_pays(16 * s * s) {
+            (0..s).into_par_iter().map(row).collect()
+        } else {
+            (0..s).map(row).collect()
+        };
+        for (j, row) in rows.iter().enumerate() {
+            for (l, d) in (j..s).zip(row) {
+                for (p, gp) in g.iter_mut().enumerate() {
+                    gp[(j, l)] = d[p];
+                    // D_p(−t) = conj(D_p(t)) (k'^p real).
+                    gp[(l, j)] = d[p].conj();
+                }
+            }
+        }
+        g
     }
 
     /// `Σ_k w_k (i2πk')^p E_{kj}` for `p = 0, 1, 2` and every column `j`: the values and first two
@@ -219,19 +395,8 @@ impl Model {
     pub fn grams(&self, tau: &[f64], e: &Mat<c64>, orders: usize) -> Vec<Mat<c64>> {
         let (m, s) = (e.nrows(), e.ncols());
         let orders = orders.min(3);
-        if self.is_contiguous() && s >= CLOSED_FORM_GRAM {
-            let mut g: Vec<Mat<c64>> = (0..orders).map(|_| Mat::<c64>::zeros(s, s)).collect();
-            for j in 0..s {
-                for l in j..s {
-                    let d = self.kernel_sums(tau[l] - tau[j]);
-                    for (p, gp) in g.iter_mut().enumerate() {
-                        gp[(j, l)] = d[p];
-                        // D_p(−t) = conj(D_p(t)) (k'^p real).
-                        gp[(l, j)] = d[p].conj();
-                    }
-                }
-            }
-            return g;
+        if self.grams_closed_form(s) {
+            return self.closed_grams(tau, orders);
         }
         let product = |w: MatRef<'_, c64>| {
             let mut g = Mat::<c64>::zeros(s, s);
@@ -278,53 +443,7 @@ impl Model {
     /// (`O(|K|)`; only spikes closer than `0.03/N` get there), and at `t = 0` exactly.
     /// Only called for contiguous bands.
     pub fn kernel_sums(&self, t: f64) -> [Complex64; 3] {
-        let a = self.kf[0];
-        let b = self.kf[self.kf.len() - 1];
-        let n = b - a + 1.0;
-        let c = 0.5 * (a + b);
-        let tr = t - t.round();
-        let u = PI * tr;
-        if (n * u).abs() < 0.1 {
-            if tr == 0.0 {
-                // Σk = nc, Σk² = Σ(k − c)² + nc² = n(n² − 1)/12 + nc².
-                return [
-                    Complex64::new(n, 0.0),
-                    Complex64::new(n * c, 0.0),
-                    Complex64::new(n * (n * n - 1.0) / 12.0 + n * c * c, 0.0),
-                ];
-            }
-            let zero = Complex64::new(0.0, 0.0);
-            let mut out = [zero; 3];
-            let mut col = vec![zero; self.len()];
-            self.exp_column(tr, &mut col);
-            for (z, &k) in col.iter().zip(&self.kf) {
-                out[0] += z;
-                out[1] += z * k;
-                out[2] += z * (k * k);
-            }
-            return out;
-        }
-        // sin(nu) with the phase n·t reduced modulo 2 first (n·t is large for long bands).
-        let nt = n * tr;
-        let f = (PI * (nt - 2.0 * (0.5 * nt).round())).sin();
-        let fc = (PI * (nt - 2.0 * (0.5 * nt).round())).cos();
-        let (su, cu) = u.sin_cos();
-        let s0 = f / su;
-        let s1u = (n * fc - s0 * cu) / su;
-        let s2u = (1.0 - n * n) * s0 - 2.0 * (cu / su) * s1u;
-        // d/dx = ½ d/du.
-        let s1 = 0.5 * s1u;
-        let s2 = 0.25 * s2u;
-        // e^{icx} = exp(iπ(a + b)t), a + b an integer: phase reduced modulo 2.
-        let ab = a + b;
-        let ph = ab * tr;
-        let w = Complex64::from_polar(1.0, PI * (ph - 2.0 * (0.5 * ph).round()));
-        let i = Complex64::new(0.0, 1.0);
-        [
-            w * s0,
-            w * (c * s0 - i * s1),
-            w * (c * c * s0 - 2.0 * i * c * s1 - s2),
-        ]
+        dirichlet_sums(self.ks[0], self.ks[self.ks.len() - 1], t)
     }
 
     /// `(q(t), q'(t), q''(t))` for `q(t) = Σ_k c_k exp(i2πk't)`, by direct sums in `O(|K|)`.

@@ -48,6 +48,7 @@ pub(crate) fn noise_ball_for(data: &crate::model::Measurements, sigma: f64) -> f
 
 pub(crate) mod band;
 pub(crate) mod budget;
+pub(crate) mod cg;
 pub(crate) mod criteria;
 pub(crate) mod hankel;
 pub(crate) mod hankel_svd;

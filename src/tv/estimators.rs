@@ -4,8 +4,8 @@
 use super::settings::{Backend, TvSettings};
 use super::{run, Problem};
 use crate::error::{check, Error, Result};
-use crate::estimator::{Estimate, Estimator, NoiseLevel};
-use crate::model::Measurements;
+use crate::estimator::{ArrayEstimate, Estimate, Estimator, NoiseLevel};
+use crate::model::{Measurements, Snapshots};
 
 /// TV-norm minimisation (method name `sdp`): exact (`Fμ = y`) or constrained (`‖y − Fμ‖₂ ≤ δ(σ)`)
 /// depending on the noise level ([`Problem::for_noise`]); the solver is chosen by
@@ -74,6 +74,14 @@ impl Estimator for Tv {
     fn estimate(&self, data: &Measurements) -> Result<Estimate> {
         run(self.name(), data, self.noise, &self.settings, |sigma| {
             Ok(Problem::for_noise(sigma, data))
+        })
+    }
+
+    /// The joint (group atomic-norm) problem of all snapshots, exact or constrained
+    /// ([`super::joint`]).
+    fn estimate_snapshots(&self, data: &Snapshots) -> Result<ArrayEstimate> {
+        super::joint::run(self.name(), data, self.noise, &self.settings, |sigma| {
+            Ok(super::joint::problem_for_noise(sigma, data))
         })
     }
 }
@@ -168,6 +176,34 @@ impl Estimator for Ast {
             })
         })
     }
+
+    /// The joint penalised problem of all snapshots with `τ = (η/1.5)·σ·q₀.₉₅`, the Monte Carlo
+    /// quantile of the noise's dual norm ([`super::joint::tau`]).
+    fn estimate_snapshots(&self, data: &Snapshots) -> Result<ArrayEstimate> {
+        check::that(
+            "eta",
+            self.eta,
+            self.eta.is_finite() && self.eta > 0.0,
+            "must be positive and finite",
+        )?;
+        super::joint::run(self.name(), data, self.noise, &self.settings, |sigma| {
+            let Some(s) = sigma else {
+                return Err(Error::NeedsNoiseLevel {
+                    method: "ast",
+                    advice: "soft thresholding has no exact-data form; give sigma, or use 'sdp' \
+                             for exact data",
+                });
+            };
+            let q = super::joint::tau::noise_sup_quantile(
+                data.indices(),
+                data.band_len(),
+                data.snapshot_count(),
+            );
+            Ok(Problem::Penalised {
+                tau: self.eta / 1.5 * s * q,
+            })
+        })
+    }
 }
 
 /// TV-norm minimisation by Sliding Frank–Wolfe only (method name `sfw`): the problems of [`Tv`]
@@ -251,6 +287,21 @@ impl Estimator for Sfw {
         let settings = self.settings.with_backend(Backend::SlidingFrankWolfe);
         run(self.name(), data, self.noise, &settings, |sigma| {
             Ok(Problem::for_noise(sigma, data))
+        })
+    }
+
+    /// The joint problem of [`Tv::estimate_snapshots`] by the group Sliding Frank–Wolfe solver only.
+    fn estimate_snapshots(&self, data: &Snapshots) -> Result<ArrayEstimate> {
+        if self.settings.backend == Backend::InteriorPoint {
+            return Err(Error::invalid(
+                "backend",
+                "interior point",
+                "sfw always runs the sliding solver; use 'sdp' for the interior point",
+            ));
+        }
+        let settings = self.settings.with_backend(Backend::SlidingFrankWolfe);
+        super::joint::run(self.name(), data, self.noise, &settings, |sigma| {
+            Ok(super::joint::problem_for_noise(sigma, data))
         })
     }
 }

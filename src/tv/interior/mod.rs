@@ -3,7 +3,7 @@
 //! two real symmetric blocks of sizes `⌈N/2⌉ + 1` and `⌊N/2⌋ + 1`), solved by clarabel's interior
 //! point; the support is read from the maxima of the dual polynomial that reach modulus one.
 
-mod clarabel_adapter;
+pub(crate) mod clarabel_adapter;
 pub(crate) mod compact;
 pub(crate) mod real;
 
