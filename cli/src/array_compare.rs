@@ -104,11 +104,11 @@ pub fn score(
                 .is_some_and(|s| s.amplitude.norm_sqr() >= SPURIOUS_POWER_SHARE * weakest)
         })
         .count();
-    let errs: Vec<f64> = sc.pairs.iter().map(|p| p.position_error).collect();
+    let errs: Vec<f64> = sc.pairs.iter().map(|p| p.position_error.abs()).collect();
     let in_crb: Option<Vec<f64>> = std.map(|s| {
         sc.pairs
             .iter()
-            .map(|p| p.position_error / s[p.truth_index])
+            .map(|p| p.position_error.abs() / s[p.truth_index])
             .collect()
     });
     let max = |v: &[f64]| {

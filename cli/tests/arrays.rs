@@ -448,6 +448,9 @@ fn assert_accepted(rows: &[(String, Value)], sources: u64) {
         assert_eq!(sc["spurious_significant"].as_u64(), Some(0), "{m}: {sc}");
         let e = sc["max_error_crb"].as_f64().unwrap();
         assert!(e < 4.0, "{m}: largest error {e} CRB standard deviations");
+        // Errors are distances: the RMS lies between 0 and the largest.
+        let rms = sc["rms_error_crb"].as_f64().unwrap();
+        assert!((0.0..=e).contains(&rms), "{m}: {sc}");
     }
 }
 
@@ -515,7 +518,7 @@ fn simulate_recover_compare_plot_round_trip() {
     ] {
         assert!(summary.contains(want), "{want}: {summary}");
     }
-    assert_accepted(&scores(&csv, &truth, "esprit,music,pencil"), 3);
+    assert_accepted(&scores(&csv, &truth, "sdp,esprit,music,pencil"), 3);
     // The CSV forms: one row per source, one per method.
     let rows = ok(&run(&[
         "recover",
@@ -593,7 +596,7 @@ fn a_coherent_pair_is_found_and_a_wide_spacing_is_called_ambiguous() {
             "3",
         ],
     );
-    assert_accepted(&scores(&csv, &truth, "esprit"), 2);
+    assert_accepted(&scores(&csv, &truth, "sdp,esprit"), 2);
     // A spacing above half a wavelength: every source's angle is ambiguous, and recover says so.
     let out = run(&[
         "recover",
