@@ -7,7 +7,7 @@ use finespike::{crb, Crb, Measurements, PROVEN_SEPARATION_FC};
 use serde_json::json;
 use std::path::PathBuf;
 
-/// The Cramér–Rao bound for the spikes of a truth file.
+/// The Cramér–Rao bound for the spikes of a truth file, or for the sources of an array truth.
 ///
 /// The bound is the smallest standard deviation any unbiased estimator can reach for each position (in 1/fc units and absolute), modulus and phase, in complex
 /// white Gaussian noise of level σ (Fisher information of the exact model, Stoica & Nehorai 1989).
@@ -18,6 +18,12 @@ use std::path::PathBuf;
 /// given (a truth file of an even-length record, fc = (N-1)/2 fractional, is a time record);
 /// amplitudes are referred to k = 0 (for time samples: to n = 0). For a real-valued truth the bound
 /// is that of its complex model (the ±f pairs in complex white noise).
+///
+/// An array truth (`simulate --sensors`, `"kind": "array"`) gives the conditional (deterministic)
+/// bound of Stoica & Nehorai (1989) of each source's spatial frequency for the amplitudes drawn in
+/// the scene, in cycles per sensor and in resolution cells 1/M, and beside it the stochastic bound
+/// (Stoica & Nehorai 1990) for the scene's source covariance; with a spacing, both for the angle in
+/// degrees.
 #[derive(Args, Debug)]
 #[command(after_help = crate::EXIT_CODES)]
 pub struct BoundArgs {
@@ -45,6 +51,10 @@ pub struct BoundArgs {
     /// given in Hz (default: the truth file's rate).
     #[arg(long, value_name = "R")]
     rate: Option<f64>,
+    /// For an array truth: element spacing D in wavelengths, for the bounds of the angles (default:
+    /// the truth file's spacing).
+    #[arg(long, value_name = "D", allow_hyphen_values = true)]
+    spacing: Option<f64>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = ReportFormat::Text)]
     format: ReportFormat,
@@ -159,6 +169,29 @@ fn band(a: &BoundArgs, file_fc: Option<f64>, rec: &input::TruthRecord) -> Result
 }
 
 pub fn run(a: BoundArgs) -> Result<(), Failure> {
+    if crate::array_input::is_array_truth_file(&a.truth) {
+        let single = [
+            (a.data.is_some(), "--data"),
+            (a.fc.is_some(), "--fc"),
+            (a.domain.is_some(), "--domain"),
+            (a.samples.is_some(), "--samples"),
+            (a.rate.is_some(), "--rate"),
+        ];
+        if let Some((_, flag)) = single.iter().find(|(given, _)| *given) {
+            return Err(Failure::Usage(format!(
+                "{flag} applies to single records, but {} is an array truth (its array and \
+                 snapshots are in the file)",
+                shown(&a.truth)
+            )));
+        }
+        requested_noise(a.sigma)?;
+        return crate::array_bound::run(&a.truth, a.sigma, a.spacing, a.format);
+    }
+    if let Some(d) = a.spacing {
+        return Err(Failure::Usage(format!(
+            "--spacing {d} applies to array truths (\"kind\": \"array\"), not to a spike file"
+        )));
+    }
     let (file, rec) = input::load_truth(&a.truth).map_err(Failure::Input)?;
     let rate = match a.rate.or(rec.rate) {
         Some(r) if r.is_finite() && r > 0.0 => Some(r),

@@ -21,8 +21,10 @@ fn read_text(path: &Path) -> Result<String, Error> {
 /// The sample file of `recover` and `plot`, with the flags that fix its band.
 #[derive(clap::Args, Debug, Clone)]
 pub struct SampleArgs {
-    /// Sample file (CSV, header `k,re,im`, `n,re,im` or `n,value`, any case); `recover` takes several
-    /// (`-i a.csv -i b.csv` or `-i a.csv b.csv`) and then writes one JSON line per file.
+    /// Sample file (CSV, header `k,re,im`, `n,re,im` or `n,value`, any case), or a snapshot file of
+    /// array data (`n,snapshot,re,im` sensor data or `k,snapshot,re,im`, one row per sample per
+    /// snapshot), told apart by the header; `recover` takes several sample files (`-i a.csv -i b.csv`
+    /// or `-i a.csv b.csv`) and then writes one JSON line per file.
     #[arg(long, short, required = true, num_args = 1..)]
     pub input: Vec<PathBuf>,
     /// Cutoff fc of the band -fc..fc, for Fourier files only (default: the largest |k| in the file);
@@ -34,6 +36,12 @@ pub struct SampleArgs {
     pub domain: Option<DomainArg>,
     #[command(flatten)]
     pub record: RecordArgs,
+    /// Element spacing D of a uniform line array in wavelengths, for snapshot files: every source
+    /// then carries its direction of arrival θ = asin(f/D) from broadside (f its spatial frequency in
+    /// cycles per sensor); above 1/2 the angles are ambiguous (grating lobes) and a warning says so.
+    /// Refused with single-record sample files.
+    #[arg(long, value_name = "D", allow_hyphen_values = true)]
+    pub spacing: Option<f64>,
 }
 
 /// The units and the nuisance of a record: sample rate or domain length, and the trend fitted with
@@ -140,6 +148,13 @@ impl SampleArgs {
 
     /// Read the file `path` with these flags (units and trend included).
     pub fn load_path(&self, path: &Path) -> Result<Measurements, Failure> {
+        if let Some(d) = self.spacing {
+            return Err(Failure::Usage(format!(
+                "--spacing {d} applies to snapshot files of array data (header \
+                 'n,snapshot,re,im'), but {} is a single-record sample file",
+                shown(path)
+            )));
+        }
         let data = load_samples(path, self.fc, self.domain)?;
         self.record.apply(data, path)
     }

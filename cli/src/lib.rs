@@ -17,6 +17,12 @@
 //! - 4 the estimator could not run on these data (e.g. a subspace method on a measured set with gaps);
 //! - 5 an output could not be written.
 
+mod array_bound;
+mod array_compare;
+mod array_input;
+mod array_plot;
+mod array_recover;
+mod array_simulate;
 mod bound;
 mod campaign;
 mod compare;

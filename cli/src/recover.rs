@@ -6,7 +6,7 @@ use clap::Args;
 use finespike::{Domain, Estimate, Measurements, NoiseLevel, Warning, PROVEN_SEPARATION_FC};
 use serde_json::{json, Value};
 
-/// Recover spikes (lines) from a sample file with one method.
+/// Recover spikes (lines) from a sample file, or sources from a snapshot file, with one method.
 ///
 /// The result goes to stdout as JSON (or CSV); a short summary of the diagnostics and every warning
 /// go to stderr. The summary gives the record (N samples, their index range, the resolution 1/N in
@@ -21,6 +21,13 @@ use serde_json::{json, Value};
 /// frequency or location, amplitude [re, im], abs_amplitude, phase_deg, crb_std in the record's
 /// unit), `resolution`, `separation_cells` (in 1/N), `separation_fc` (in 1/fc), `trend` (the fitted
 /// offset or trend), `record`, and the complex-model `spikes`, `status` and `diagnostics`.
+///
+/// A snapshot file (`n,snapshot,re,im`: L snapshots of an array of sensors) is recognised by its
+/// header and goes to the methods that take snapshots (sdp, ast, sfw, music, esprit, pencil; the
+/// others refuse with exit 4). JSON: `sources` (position, signed spatial frequency in cycles per
+/// sensor, power, amplitudes [re, im] per snapshot, crb_std; with --spacing angle_deg and
+/// crb_std_angle_deg), `resolution` (1/M), `array`, `method`, `status`, `diagnostics`; the summary
+/// gives each source's angle, power and Cramér–Rao bound and the closest pair in cells 1/M.
 #[derive(Args, Debug)]
 #[command(after_help = crate::EXIT_CODES)]
 pub struct RecoverArgs {
@@ -37,6 +44,11 @@ pub struct RecoverArgs {
 }
 
 pub fn run(a: RecoverArgs) -> Result<(), Failure> {
+    if let [one] = a.samples.input.as_slice() {
+        if crate::array_input::is_snapshot_file(one) {
+            return crate::array_recover::run(&a.samples, &a.method, a.format, a.quiet);
+        }
+    }
     let noise = requested_noise(a.method.sigma)?;
     if a.samples.input.len() > 1 {
         return run_batch(&a, noise);
@@ -76,6 +88,18 @@ fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
         ));
     }
     let estimator = configure(&a.method, noise)?;
+    if let Some(p) = a
+        .samples
+        .input
+        .iter()
+        .find(|p| crate::array_input::is_snapshot_file(p))
+    {
+        return Err(Failure::Usage(format!(
+            "{} is a snapshot file: snapshot files are recovered one per run (give it alone to \
+             --input)",
+            crate::shown(p)
+        )));
+    }
     let loaded: Vec<Result<finespike::Measurements, Failure>> = a
         .samples
         .input

@@ -10,13 +10,15 @@ use std::path::PathBuf;
 /// The flags that describe an invented scene (shared by `simulate` and the sweeps of `compare`).
 #[derive(Args, Debug, Clone)]
 pub struct SceneArgs {
-    /// Number of spikes.
+    /// Number of spikes (of sources, for `simulate --sensors`).
     #[arg(long, default_value_t = 3)]
     pub count: usize,
-    /// Separation of the closest pair in Rayleigh units (Δ·fc); the other gaps are random and larger.
+    /// Separation of the closest pair in Rayleigh units (Δ·fc), for `simulate --sensors` in
+    /// resolution cells (Δ·M); the other gaps are random and larger.
     #[arg(long, default_value_t = 2.0)]
     pub separation: f64,
-    /// Signal-to-noise ratio of the weakest spike in dB, 10·log10(min |a|² / σ²) (omitted: exact data).
+    /// Signal-to-noise ratio of the weakest spike in dB, 10·log10(min |a|² / σ²), for `simulate
+    /// --sensors` of every source, 10·log10(P/σ²) (omitted: exact data).
     #[arg(long)]
     pub snr: Option<f64>,
     /// How the amplitudes are drawn.
@@ -72,6 +74,14 @@ impl SceneArgs {
 /// --noise-std for the std of w) and samples removed in runs of up to --max-run (--missing). The
 /// truth JSON records the lines in the record's unit and, for the tools that read spike files, the
 /// complex model's ±f pairs with σ the noise's stationary std.
+///
+/// Array scenes (--sensors M --snapshots L): L snapshots x_t[n] = Σ_j s_j(t) exp(i2π f_j n) + noise
+/// of a uniform line array, sources at spatial frequencies f_j in cycles per sensor (drawn with
+/// --count and --separation in resolution cells 1/M, or given by --frequencies or --angles), complex
+/// Gaussian amplitudes of power 10^(snr/10) each against σ = 1, uncorrelated, correlated or coherent
+/// (--correlation), some sensors left out (--missing-sensors). The sample file is `n,snapshot,re,im`;
+/// the truth JSON (`"kind": "array"`) records the array, σ, the correlation and each source with its
+/// drawn amplitude in every snapshot.
 #[derive(Args, Debug)]
 #[command(after_help = crate::EXIT_CODES)]
 pub struct SimulateArgs {
@@ -141,10 +151,12 @@ pub struct SimulateArgs {
     /// With --real: longest run of missing samples.
     #[arg(long, default_value_t = 5, requires = "real")]
     max_run: usize,
+    #[command(flatten)]
+    array: crate::array_simulate::ArraySceneArgs,
     /// Where to write the samples (CSV; `-` for stdout).
     #[arg(long)]
     out: PathBuf,
-    /// Where to write the truth (JSON: fc, sigma, spikes).
+    /// Where to write the truth (JSON: fc, sigma, spikes; for an array scene the array truth).
     #[arg(long)]
     truth: PathBuf,
 }
@@ -174,6 +186,9 @@ fn parse_line(text: &str) -> Result<(f64, f64, f64), String> {
 pub fn run(a: SimulateArgs) -> Result<(), Failure> {
     if a.real {
         return run_real(&a);
+    }
+    if a.array.sensors.is_some() {
+        return crate::array_simulate::run(&a.array, &a.scene, &a.out, &a.truth);
     }
     let sample = a
         .scene

@@ -153,6 +153,10 @@ pub fn run(a: PlotArgs) -> Result<(), Failure> {
             shown(&a.out)
         )));
     }
+    if crate::array_input::is_snapshot_file(a.samples.path()?) {
+        let (truth, range) = (a.truth.as_deref(), a.range.as_deref());
+        return crate::array_plot::run(&a.samples, &a.method, truth, range, a.width, &a.out);
+    }
     let noise = requested_noise(a.method.sigma)?;
     let data = a.samples.load()?;
     let truth: Option<SpikeFile> = match &a.truth {
