@@ -182,19 +182,8 @@ pub fn warnings(estimate: &ArrayEstimate) -> Vec<String> {
             estimate.status
         ));
     }
-    out.extend(
-        estimate
-            .diagnostics
-            .warnings
-            .iter()
-            .map(|w| squeeze(&w.to_string())),
-    );
+    out.extend(estimate.diagnostics.warnings.iter().map(|w| w.to_string()));
     out
-}
-
-/// Runs of white space as one space (a message wrapped in the source keeps its indentation).
-pub fn squeeze(text: &str) -> String {
-    text.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
 #[cfg(test)]
@@ -210,6 +199,5 @@ mod tests {
         );
         assert_eq!(resolution(4, None), "1/M = 0.25 cycles/sensor");
         assert_eq!(missing(&[0, 1, 4, 6]), vec!["2", "3", "5"]);
-        assert_eq!(squeeze("a  b\n   c"), "a b c");
     }
 }

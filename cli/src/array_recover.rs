@@ -117,10 +117,7 @@ pub fn summary(estimate: &ArrayEstimate, data: &Snapshots, requested: NoiseLevel
             "σ = {} per sensor and snapshot ({})",
             num(s),
             match (&d.sigma_method, d.sigma_estimated) {
-                (Some(m), true) => format!(
-                    "estimated from the data: {}",
-                    array_input::squeeze(&m.to_string())
-                ),
+                (Some(m), true) => format!("estimated from the data: {m}"),
                 (None, true) => "estimated from the data".to_string(),
                 _ => "as given".to_string(),
             }

@@ -237,11 +237,15 @@ impl fmt::Display for Warning {
             ),
             Warning::AmbiguousAngles { spacing } => write!(
                 f,
-                "AMBIGUOUS ANGLES: the element spacing {spacing} wavelengths is above 1/2, so each                  spatial frequency has more than one direction of arrival (grating lobes); the                  angles reported are the ones nearest broadside, and the others are as likely"
+                "AMBIGUOUS ANGLES: the element spacing {spacing} wavelengths is above 1/2, so each \
+                 spatial frequency has more than one direction of arrival (grating lobes); the \
+                 angles reported are the ones nearest broadside, and the others are as likely"
             ),
             Warning::OutsideVisibleRegion { frequency, spacing } => write!(
                 f,
-                "a source at spatial frequency {frequency:.4} lies outside the visible region                  |f| ≤ {spacing} of this array: no direction of arrival gives it; it is an                  artifact or the spacing is wrong"
+                "a source at spatial frequency {frequency:.4} lies outside the visible region \
+                 |f| ≤ {spacing} of this array: no direction of arrival gives it; it is an \
+                 artifact or the spacing is wrong"
             ),
         }
     }

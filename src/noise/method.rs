@@ -89,11 +89,13 @@ impl std::fmt::Display for SigmaMethod {
                 noise_eigenvalues,
             } => write!(
                 f,
-                "mean of the {noise_eigenvalues} noise eigenvalues of the sample covariance of                  {snapshots} snapshots ({order} sources set aside by MDL)"
+                "mean of the {noise_eigenvalues} noise eigenvalues of the sample covariance of \
+                 {snapshots} snapshots ({order} sources set aside by MDL)"
             ),
             SigmaMethod::PooledSnapshots { snapshots } => write!(
                 f,
-                "single-record estimates of {snapshots} snapshots, pooled (too few snapshots for a                  sample covariance)"
+                "single-record estimates of {snapshots} snapshots, pooled (too few snapshots for a \
+                 sample covariance)"
             ),
         }
     }
