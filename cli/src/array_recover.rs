@@ -77,9 +77,9 @@ pub fn sources_csv(estimate: &ArrayEstimate) -> String {
 /// The separation verdict the estimate carries (the library's warnings, not a threshold of ours).
 fn separation_verdict(estimate: &ArrayEstimate) -> &'static str {
     let warned = |pick: fn(&Warning) -> bool| estimate.diagnostics.warnings.iter().any(pick);
-    if warned(|w| matches!(w, Warning::UnderResolved { .. })) {
+    if warned(|w| matches!(w, Warning::SourcesUnderResolved { .. })) {
         "; UNDER-RESOLVED: closer than the array's resolution 1/M"
-    } else if warned(|w| matches!(w, Warning::BelowProvenSeparation { .. })) {
+    } else if warned(|w| matches!(w, Warning::SourcesBelowProvenSeparation { .. })) {
         "; resolved, but below the proven exact-recovery threshold of TV"
     } else {
         ""

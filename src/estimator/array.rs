@@ -180,12 +180,12 @@ impl ArrayEstimate {
         }
         if let (Some(cells), Some(fc)) = (separation_cells, separation_fc) {
             if cells < 1.0 {
-                warnings.push(Warning::UnderResolved {
+                warnings.push(Warning::SourcesUnderResolved {
                     separation_fc: fc,
                     separation_cells: cells,
                 });
             } else if fc < PROVEN_SEPARATION_FC {
-                warnings.push(Warning::BelowProvenSeparation {
+                warnings.push(Warning::SourcesBelowProvenSeparation {
                     separation_fc: fc,
                     separation_cells: cells,
                 });

@@ -110,6 +110,23 @@ pub enum Warning {
         /// The spikes kept.
         kept: usize,
     },
+    /// Sources of a multi-snapshot record closer than the array's resolution `1/M` (`M` sensors
+    /// spanned): the array counterpart of [`Warning::UnderResolved`].
+    SourcesUnderResolved {
+        /// Minimum separation of the sources in resolution cells `1/M`.
+        separation_cells: f64,
+        /// The same in `1/fc`, `fc = (M − 1)/2`.
+        separation_fc: f64,
+    },
+    /// Sources of a multi-snapshot record resolved by the array but closer than
+    /// [`PROVEN_SEPARATION_FC`]`/fc`: the single-snapshot threshold, which is also the worst case of
+    /// many snapshots (coherent sources reduce the problem to one snapshot).
+    SourcesBelowProvenSeparation {
+        /// Minimum separation of the sources in resolution cells `1/M`.
+        separation_cells: f64,
+        /// The same in `1/fc`, `fc = (M − 1)/2`.
+        separation_fc: f64,
+    },
     /// An array whose element spacing exceeds half a wavelength: every spatial frequency maps to more
     /// than one direction (grating lobes), so each reported angle is one of several possible.
     AmbiguousAngles {
@@ -234,6 +251,26 @@ impl fmt::Display for Warning {
                 f,
                 "the model-order criterion chose {estimated} components but only {kept} stand above \
                  the noise; the others were dropped"
+            ),
+            Warning::SourcesUnderResolved {
+                separation_cells,
+                separation_fc,
+            } => write!(
+                f,
+                "UNDER-RESOLVED: the closest sources are {separation_cells:.3} resolution cells \
+                 (1/M) apart ({separation_fc:.3}/fc), closer than the array can resolve; close \
+                 sources may be merged, split or misplaced"
+            ),
+            Warning::SourcesBelowProvenSeparation {
+                separation_cells,
+                separation_fc,
+            } => write!(
+                f,
+                "the closest sources are {separation_cells:.3} resolution cells (1/M) apart: the \
+                 array resolves them, but they are {separation_fc:.3}/fc apart, below the \
+                 separation {PROVEN_SEPARATION_FC}/fc above which exact recovery is proven for \
+                 every source correlation (coherent sources included); their positions and powers \
+                 may be wrong"
             ),
             Warning::AmbiguousAngles { spacing } => write!(
                 f,
