@@ -2,7 +2,7 @@
 //! its line. Values are invented.
 
 use super::*;
-use crate::eval::array_scene::ArrayScene;
+use crate::eval::array_scene::{ArrayScene, SourceCorrelation};
 
 fn err(text: &str) -> String {
     read_snapshots_text(text, "x.csv", None)

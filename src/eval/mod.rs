@@ -5,6 +5,7 @@
 //! command line is built on these; they are also usable from Rust for Monte Carlo studies.
 
 pub mod array_scene;
+mod array_truth;
 pub mod campaign;
 pub mod io;
 pub mod io_snapshots;
