@@ -13,7 +13,9 @@
 //! 3. Amplitudes: `min_B ½‖Ỹ − AB‖²_F + τ Σ_j ‖B_j‖₂` by accelerated proximal gradient (Beck &
 //!    Teboulle 2009, SIAM J. Imaging Sci. 2(1), FISTA, with the gradient restart of O'Donoghue &
 //!    Candès 2015, FoCM 15(3)); the proximal map of the group penalty is block soft thresholding,
-//!    `B_j ← B_j · max(0, 1 − sτ/‖B_j‖)` (Yuan & Lin 2006, J. R. Stat. Soc. B 68(1)).
+//!    `B_j ← B_j · max(0, 1 − sτ/‖B_j‖)` (Yuan & Lin 2006, J. R. Stat. Soc. B 68(1)). Every 20
+//!    steps, once the optimality conditions fail, Newton–CG on the current nonzero rows tries to
+//!    finish the step (see `support_refine`); it is accepted only when the conditions then hold.
 //! 4. Sliding: each position `f_j` in turn is moved to the maximum of `Re p_j(f)`,
 //!    `p_j(f) = a(f)ᴴ R₋ⱼ B_jᴴ` (`R₋ⱼ` the residual without atom `j`), by Newton steps — the exact
 //!    minimiser of the objective over `f_j` — and the amplitudes are recomputed; repeated until the
