@@ -2,7 +2,7 @@
 //! with a spacing, of its angle.
 
 use crate::array_input::{describe, load_array_truth, with_spacing};
-use crate::show::{exact, num, sig};
+use crate::show::{self, exact, num, sig};
 use crate::{shown, Failure, ReportFormat};
 use finespike::eval::io_snapshots::ArrayTruth;
 use finespike::{Snapshots, PROVEN_SEPARATION_FC};
@@ -224,25 +224,7 @@ fn text(path: &Path, truth: &ArrayTruth, data: &Snapshots, sigma: f64, rows: &[R
             row
         })
         .collect();
-    let mut widths: Vec<usize> = head.iter().map(|h| h.chars().count()).collect();
-    for r in &table {
-        for (w, c) in widths.iter_mut().zip(r) {
-            *w = (*w).max(c.chars().count());
-        }
-    }
-    let line = |cells: Vec<&str>| -> String {
-        cells
-            .iter()
-            .zip(&widths)
-            .map(|(c, w)| format!("{}{c}", " ".repeat(w - c.chars().count())))
-            .collect::<Vec<_>>()
-            .join("  ")
-            + "\n"
-    };
-    out.push_str(&line(head.clone()));
-    for r in &table {
-        out.push_str(&line(r.iter().map(String::as_str).collect()));
-    }
+    out.push_str(&show::table(&head, &table));
     out.push_str(
         "\nfrequency: spatial frequency in cycles per sensor; power: the scene's source power; drawn: the \
          power of the\namplitudes drawn in this scene, which the bound uses; std f: one standard \

@@ -349,25 +349,7 @@ fn text(
             row
         })
         .collect();
-    let mut widths: Vec<usize> = head.iter().map(|h| h.chars().count()).collect();
-    for r in &rows {
-        for (w, c) in widths.iter_mut().zip(r) {
-            *w = (*w).max(c.chars().count());
-        }
-    }
-    let line = |cells: Vec<&str>| -> String {
-        cells
-            .iter()
-            .zip(&widths)
-            .map(|(c, w)| format!("{}{c}", " ".repeat(w - c.chars().count())))
-            .collect::<Vec<_>>()
-            .join("  ")
-            + "\n"
-    };
-    out.push_str(&line(head.to_vec()));
-    for r in &rows {
-        out.push_str(&line(r.iter().map(String::as_str).collect()));
-    }
+    out.push_str(&show::table(&head, &rows));
     out.push_str(
         "\nstd τ·fc: one standard deviation of the position in Rayleigh units (1/fc); std τ: the same \
          in position units\n(cycles per sample for time data); |a| and arg a: modulus and phase of the \

@@ -54,6 +54,30 @@ fn trim_zeros(text: &str) -> String {
     text.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
+/// A text table: the header `head` and the `rows`, each column right-aligned to its widest cell,
+/// columns two spaces apart, one line per row.
+pub fn table(head: &[&str], rows: &[Vec<String>]) -> String {
+    let mut widths: Vec<usize> = head.iter().map(|h| h.chars().count()).collect();
+    for r in rows {
+        for (w, c) in widths.iter_mut().zip(r) {
+            *w = (*w).max(c.chars().count());
+        }
+    }
+    let line = |cells: &mut dyn Iterator<Item = &str>| -> String {
+        cells
+            .zip(&widths)
+            .map(|(c, w)| format!("{}{c}", " ".repeat(w.saturating_sub(c.chars().count()))))
+            .collect::<Vec<_>>()
+            .join("  ")
+            + "\n"
+    };
+    let mut out = line(&mut head.iter().copied());
+    for r in rows {
+        out.push_str(&line(&mut r.iter().map(String::as_str)));
+    }
+    out
+}
+
 /// How the measured set is described: "33 coefficients, fc = 16" (a Fourier band, or "17 of the 33
 /// coefficients of the band, fc = 16" with gaps) or "N = 64 time samples (n = 0..63)" (a time record,
 /// whose length says more than its fc = (N − 1)/2, which is fractional for even N; "497 of N = 512
