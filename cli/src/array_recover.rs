@@ -2,7 +2,7 @@
 //! stdout, a readable summary on stderr.
 
 use crate::array_input::{self, describe, place, warnings};
-use crate::show::{exact, num, sig};
+use crate::show::{self, exact, num, sig};
 use crate::{configure, input, requested_noise, shown, Failure, Format, MethodArgs};
 use finespike::eval::io_snapshots::array_estimate_json;
 use finespike::{ArrayEstimate, NoiseLevel, Snapshots, Warning, PROVEN_SEPARATION_FC};
@@ -89,22 +89,13 @@ fn separation_verdict(estimate: &ArrayEstimate) -> &'static str {
 /// The readable summary of an array estimate (several lines, each ending in a newline).
 pub fn summary(estimate: &ArrayEstimate, data: &Snapshots, requested: NoiseLevel) -> String {
     let d = &estimate.diagnostics;
-    let mut steps = match d.iterations {
-        0 => "direct method, no iterations".to_string(),
-        1 => "after 1 iteration".to_string(),
-        n => format!("after {n} iterations"),
-    };
-    if let Some(gap) = d.duality_gap {
-        steps = format!("{steps}, relative duality gap {}", sig(gap, 2));
-    }
-    if let Some(solver) = d.solver {
-        steps = format!("{solver}, {steps}");
-    }
-    let mut out = format!(
-        "{}: {} ({steps}) in {} s\n",
+    let mut out = show::headline(
         estimate.method,
         estimate.status,
-        sig(d.solve_seconds, 3)
+        d.solver,
+        d.iterations,
+        d.duality_gap,
+        d.solve_seconds,
     );
     let row = |out: &mut String, label: &str, text: String| {
         out.push_str(&format!("  {label:<12} {text}\n"));

@@ -290,22 +290,13 @@ pub fn summary(
     requested: NoiseLevel,
 ) -> String {
     let d = &estimate.diagnostics;
-    let mut steps = match d.iterations {
-        0 => "direct method, no iterations".to_string(),
-        1 => "after 1 iteration".to_string(),
-        n => format!("after {n} iterations"),
-    };
-    if let Some(gap) = d.duality_gap {
-        steps = format!("{steps}, relative duality gap {}", sig(gap, 2));
-    }
-    if let Some(solver) = d.solver {
-        steps = format!("{solver}, {steps}");
-    }
-    let mut out = format!(
-        "{}: {} ({steps}) in {} s\n",
+    let mut out = show::headline(
         estimate.method,
         estimate.status,
-        sig(d.solve_seconds, 3)
+        d.solver,
+        d.iterations,
+        d.duality_gap,
+        d.solve_seconds,
     );
     let row = |out: &mut String, label: &str, text: String| {
         out.push_str(&format!("  {label:<12} {text}\n"));

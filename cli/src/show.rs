@@ -54,6 +54,30 @@ fn trim_zeros(text: &str) -> String {
     text.trim_end_matches('0').trim_end_matches('.').to_string()
 }
 
+/// The first line of an estimate's summary: "METHOD: STATUS (SOLVER, after N iterations, relative
+/// duality gap G) in T s".
+pub fn headline(
+    method: &str,
+    status: finespike::Status,
+    solver: Option<&str>,
+    iterations: usize,
+    duality_gap: Option<f64>,
+    seconds: f64,
+) -> String {
+    let mut steps = match iterations {
+        0 => "direct method, no iterations".to_string(),
+        1 => "after 1 iteration".to_string(),
+        n => format!("after {n} iterations"),
+    };
+    if let Some(gap) = duality_gap {
+        steps = format!("{steps}, relative duality gap {}", sig(gap, 2));
+    }
+    if let Some(solver) = solver {
+        steps = format!("{solver}, {steps}");
+    }
+    format!("{method}: {status} ({steps}) in {} s\n", sig(seconds, 3))
+}
+
 /// A text table: the header `head` and the `rows`, each column right-aligned to its widest cell,
 /// columns two spaces apart, one line per row.
 pub fn table(head: &[&str], rows: &[Vec<String>]) -> String {
