@@ -144,7 +144,7 @@ pub fn run(
         }
         ReportFormat::Text => text(path, &truth, &data, sigma, &rows),
     };
-    print!("{text}");
+    crate::emit(&text)?;
     Ok(())
 }
 

@@ -200,7 +200,7 @@ pub fn run(r: &Request) -> Result<(), Failure> {
         ReportFormat::Csv => csv_report(&runs),
         ReportFormat::Text => text_report(r, &data, truth.as_ref(), &runs, crb_sigma),
     };
-    print!("{text}");
+    crate::emit(&text)?;
     if runs.iter().all(|x| x.result.is_err()) {
         return Err(Failure::NoEstimate(
             "no method produced an estimate on these data (the errors are in the table)".into(),

@@ -47,7 +47,7 @@ pub fn run(
             .unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}")),
         Format::Csv => sources_csv(&estimate),
     };
-    println!("{}", text.trim_end());
+    crate::emit(&format!("{}\n", text.trim_end()))?;
     Ok(())
 }
 

@@ -247,7 +247,7 @@ pub fn run(a: BoundArgs) -> Result<(), Failure> {
         ReportFormat::Csv => csv(&bound),
         ReportFormat::Text => text(&a, &band, sigma, &bound, &file.spikes, rate),
     };
-    print!("{text}");
+    crate::emit(&text)?;
     Ok(())
 }
 

@@ -141,6 +141,6 @@ pub(crate) fn run_plan(plan: &Path, out: &Path, format: ReportFormat) -> Result<
             t
         }
     };
-    print!("{text}");
+    crate::emit(&text)?;
     Ok(())
 }

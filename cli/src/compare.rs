@@ -356,7 +356,7 @@ fn sweep_mode(a: &CompareArgs, trials: usize, methods: &[&'static str]) -> Resul
             out
         }
     };
-    print!("{text}");
+    crate::emit(&text)?;
     every_run_failed(summaries.iter().all(|s| s.errors == s.trials))
 }
 
@@ -477,7 +477,7 @@ fn file_mode(a: &CompareArgs, path: PathBuf, methods: &[&'static str]) -> Result
             out
         }
     };
-    print!("{text}");
+    crate::emit(&text)?;
     every_run_failed(summaries.iter().all(|s| s.errors == s.trials))
 }
 
@@ -627,6 +627,6 @@ fn file_without_truth(
             out
         }
     };
-    print!("{text}");
+    crate::emit(&text)?;
     every_run_failed(results.iter().all(|r| r.1.is_err()))
 }

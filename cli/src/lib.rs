@@ -34,6 +34,7 @@ mod simulate;
 
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use finespike::{AmplitudeKind, Domain, Error, NoiseLevel};
+use std::io::Write;
 use std::path::Path;
 use std::process::ExitCode;
 
@@ -185,6 +186,8 @@ enum Failure {
     NoEstimate(String),
     /// Exit 5.
     Output(String),
+    /// Exit 0: the reader of standard output closed it (a pipe into `head`); nothing left to say.
+    Closed,
 }
 
 /// Parse the command line, run the subcommand and map its failure to an exit code (see above).
@@ -219,6 +222,7 @@ pub fn main() -> ExitCode {
             eprintln!("error: {e}");
             ExitCode::from(5)
         }
+        Err(Failure::Closed) => ExitCode::SUCCESS,
     }
 }
 
@@ -275,11 +279,23 @@ fn configure(
     Ok(configured.estimator)
 }
 
+/// Write `text` to standard output. A reader that has gone away (`finespike … | head`) ends the
+/// command quietly with [`Failure::Closed`] instead of a panic; any other write error is exit 5.
+fn emit(text: &str) -> Result<(), Failure> {
+    let mut out = std::io::stdout().lock();
+    match out.write_all(text.as_bytes()).and_then(|()| out.flush()) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Err(Failure::Closed),
+        Err(e) => Err(Failure::Output(format!(
+            "cannot write to standard output: {e}"
+        ))),
+    }
+}
+
 /// Write `text` to `path`, or to stdout for `-`.
 fn write_output(path: &Path, text: &str) -> Result<(), Failure> {
     if path == Path::new("-") {
-        print!("{text}");
-        return Ok(());
+        return emit(text);
     }
     std::fs::write(path, text)
         .map_err(|e| Failure::Output(format!("cannot write {}: {e}", path.display())))

@@ -72,7 +72,7 @@ pub fn run(a: RecoverArgs) -> Result<(), Failure> {
         Format::Json => pretty(&result_json(&estimate, &data)),
         Format::Csv => show::lines_csv(&estimate.diagnostics.lines, &data),
     };
-    println!("{}", text.trim_end());
+    crate::emit(&format!("{}\n", text.trim_end()))?;
     Ok(())
 }
 
@@ -143,7 +143,7 @@ fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
                 None => unreachable!("one estimate per loaded record"),
             },
         };
-        println!("{line}");
+        crate::emit(&format!("{line}\n"))?;
     }
     match first_failure {
         Some(f) => Err(f),
@@ -240,6 +240,7 @@ fn failure_text(f: &Failure) -> String {
     match f {
         Failure::Usage(s) | Failure::NoEstimate(s) | Failure::Output(s) => s.clone(),
         Failure::Input(e) | Failure::Estimate(e) => e.to_string(),
+        Failure::Closed => "standard output closed".to_string(),
     }
 }
 

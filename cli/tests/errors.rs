@@ -506,3 +506,27 @@ fn a_single_sample_record_is_refused_in_the_users_terms() {
         stderr(&out)
     );
 }
+
+/// A reader that closes the pipe early (`finespike recover … | head -1`) ends the command quietly:
+/// exit 0 and no panic message, for the estimate and for the comparison table.
+#[test]
+fn a_closed_standard_output_ends_the_command_quietly() {
+    let input = case("nl_fc08_s1p26_cx");
+    for args in [
+        vec!["recover", "-i", s(&input), "--format", "json", "-q"],
+        vec!["compare", "-i", s(&input)],
+    ] {
+        let mut child = bin()
+            .args(&args)
+            .stdout(std::process::Stdio::piped())
+            .stderr(std::process::Stdio::piped())
+            .spawn()
+            .expect("start finespike");
+        // Close the read end before the command has written anything.
+        drop(child.stdout.take());
+        let out = child.wait_with_output().expect("wait for finespike");
+        let err = stderr(&out);
+        assert!(!err.contains("panicked"), "{args:?}: {err}");
+        assert_eq!(out.status.code(), Some(0), "{args:?}: {err}");
+    }
+}
