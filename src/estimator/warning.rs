@@ -210,8 +210,8 @@ impl fmt::Display for Warning {
             } => write!(
                 f,
                 "the noise is not white: the residual's level varies by a factor {ratio:.1} across \
-                 the band (white noise stays below {threshold:.1}), loudest near {loudest_at:.4}; \
-                 lines there are less certain than their bounds say, small lines there may be \
+                 the band (white noise stays below {threshold:.1}), loudest in the eighth of the band \
+                 centred on frequency {loudest_at} (the record's unit); lines there are less certain than their bounds say, small lines there may be \
                  noise, and the noise level is the band's average"
             ),
             Warning::CertificateViolated { max_modulus } => write!(
