@@ -2,6 +2,7 @@
 //! recovered and the true sources, in angle with a spacing or in spatial frequency without one.
 
 use crate::array_input::{self, describe, warnings};
+use crate::plot::{choose_view, plot_columns, Levels, View};
 use crate::show::{num, sig};
 use crate::{
     configure, file_name, input, requested_noise, shown, write_output, Failure, MethodArgs,
@@ -51,6 +52,34 @@ impl Axis {
         }
     }
 
+    /// The part of the axis `--view` asks for: the closest pair of sources is framed in the
+    /// spatial frequency `f`, with the array's resolution `1/M` (`m` sensors spanned), by the rule
+    /// of the single-record plot, and mapped to angles through `θ = asin(f/d)`.
+    fn view(self, view: View, est: &ArrayEstimate, m: usize, width: u32) -> (f64, f64) {
+        let edge = self.spacing.map_or(0.5, |d| d.min(0.5));
+        let fs: Vec<f64> = est
+            .sources
+            .iter()
+            .map(|s| s.frequency)
+            .filter(|f| f.abs() <= edge)
+            .collect();
+        let (f0, f1) = choose_view(
+            view,
+            &fs,
+            (-edge, edge),
+            1.0 / m as f64,
+            plot_columns(width),
+        );
+        match self.spacing {
+            _ if (f0, f1) == (-edge, edge) => self.full(),
+            Some(d) => (
+                (f0 / d).clamp(-1.0, 1.0).asin().to_degrees(),
+                (f1 / d).clamp(-1.0, 1.0).asin().to_degrees(),
+            ),
+            None => (f0, f1),
+        }
+    }
+
     fn label(self) -> &'static str {
         match self.spacing {
             Some(_) => "angle θ from broadside (degrees)",
@@ -96,6 +125,41 @@ fn db(p: f64) -> f64 {
     10.0 * p.max(1e-300).log10()
 }
 
+/// The vertical scale of the figure: powers as they are (`Scale(true)`, `--levels linear`) or in
+/// decibels `10·log10 P`.
+#[derive(Clone, Copy)]
+struct Scale(bool);
+
+impl Scale {
+    /// A power on this scale.
+    fn y(self, p: f64) -> f64 {
+        if self.0 {
+            p
+        } else {
+            db(p)
+        }
+    }
+
+    /// The unit in labels: `dB`, or `linear`.
+    fn unit(self) -> &'static str {
+        if self.0 {
+            "linear"
+        } else {
+            "dB"
+        }
+    }
+
+    /// The vertical range from the lowest and highest values drawn: 60 dB under the top at most,
+    /// or from zero on the linear scale.
+    fn range(self, floor: f64, top: f64) -> (f64, f64) {
+        if self.0 {
+            (0.0, 1.12 * top.max(f64::MIN_POSITIVE))
+        } else {
+            ((floor - 3.0).max(top - 60.0), top + 8.0)
+        }
+    }
+}
+
 fn draw_err<E: std::fmt::Display>(e: E) -> Failure {
     Failure::Output(format!("cannot draw the plot: {e}"))
 }
@@ -117,15 +181,33 @@ fn wrap(text: &str, width: usize) -> Vec<String> {
     lines
 }
 
+/// How the figure of a snapshot file is framed: the options of `plot` it honours.
+pub struct Look<'a> {
+    /// `--range FROM,TO` on the figure's axis (degrees with a spacing, else cycles per sensor).
+    pub range: Option<&'a [f64]>,
+    /// `--view` when no range is given: the closest pair of sources is framed in about ten
+    /// resolution cells `1/M`.
+    pub view: View,
+    /// `--levels`: `linear` draws the powers as they are, `db` and `auto` in decibels.
+    pub levels: Levels,
+    /// `--width` in pixels.
+    pub width: u32,
+}
+
 /// `plot` on a snapshot file: estimate, then draw the SVG to `out`.
 pub fn run(
     samples: &input::SampleArgs,
     method: &MethodArgs,
     truth: Option<&Path>,
-    range: Option<&[f64]>,
-    width: u32,
+    look: Look<'_>,
     out: &Path,
 ) -> Result<(), Failure> {
+    let Look {
+        range,
+        view,
+        levels,
+        width,
+    } = look;
     let noise = requested_noise(method.sigma)?;
     let path = samples.path()?;
     let data = crate::array_recover::load(samples, path)?;
@@ -145,9 +227,9 @@ pub fn run(
         spacing: data.spacing(),
     };
     let (lo, hi) = axis.full();
-    let view = match range {
-        None => (lo, hi),
-        Some([from, to]) if lo <= *from && from < to && *to <= hi => (*from, *to),
+    let range = match range {
+        None => None,
+        Some([from, to]) if lo <= *from && from < to && *to <= hi => Some((*from, *to)),
         Some(r) => {
             return Err(Failure::Usage(format!(
                 "--range {r:?}: expected FROM,TO with {} <= FROM < TO <= {} ({})",
@@ -169,7 +251,17 @@ pub fn run(
     for w in warnings(&estimate) {
         eprintln!("warning: {w}");
     }
-    let svg = render(path, &data, truth.as_ref(), &estimate, axis, view, width)?;
+    let frame = range.unwrap_or_else(|| axis.view(view, &estimate, data.band_len(), width));
+    let scale = Scale(levels == Levels::Linear);
+    let svg = render(
+        path,
+        &data,
+        truth.as_ref(),
+        &estimate,
+        (axis, scale),
+        frame,
+        width,
+    )?;
     write_output(out, &svg)?;
     eprintln!("wrote {}", shown(out));
     Ok(())
@@ -181,6 +273,7 @@ fn caption(
     data: &Snapshots,
     truth: Option<&ArrayTruth>,
     est: &ArrayEstimate,
+    outside: usize,
     chars: usize,
 ) -> Vec<(String, bool)> {
     let mut raw: Vec<(String, bool)> =
@@ -203,6 +296,15 @@ fn caption(
         ),
         false,
     ));
+    if outside > 0 {
+        raw.push((
+            format!(
+                "The view leaves {outside} of the {n} recovered sources out (--view whole or \
+                 --range shows them)."
+            ),
+            false,
+        ));
+    }
     if let Some(t) = truth {
         let tr: Vec<f64> = t.positions();
         let m = data.band_len();
@@ -240,7 +342,7 @@ fn render(
     data: &Snapshots,
     truth: Option<&ArrayTruth>,
     est: &ArrayEstimate,
-    axis: Axis,
+    (axis, scale): (Axis, Scale),
     (x0, x1): (f64, f64),
     width: u32,
 ) -> Result<String, Failure> {
@@ -254,14 +356,14 @@ fn render(
     let curve: Vec<(f64, f64)> = (0..=points)
         .map(|i| {
             let x = x0 + (x1 - x0) * i as f64 / points as f64;
-            (x, db(at(&spectrum, axis.frequency(x))))
+            (x, scale.y(at(&spectrum, axis.frequency(x))))
         })
         .collect();
     let on_view = |x: Option<f64>| x.filter(|x| (x0..=x1).contains(x));
     let found: Vec<(f64, f64)> = est
         .sources
         .iter()
-        .filter_map(|s| on_view(axis.x(s.frequency, s.angle_deg)).map(|x| (x, db(s.power))))
+        .filter_map(|s| on_view(axis.x(s.frequency, s.angle_deg)).map(|x| (x, scale.y(s.power))))
         .collect();
     let spacing = data.spacing();
     let true_pts: Vec<(f64, f64)> = truth
@@ -272,7 +374,7 @@ fn render(
                     let angle = spacing
                         .filter(|d| s.frequency.abs() <= *d)
                         .map(|d| (s.frequency / d).asin().to_degrees());
-                    on_view(axis.x(s.frequency, angle)).map(|x| (x, db(s.sample_power)))
+                    on_view(axis.x(s.frequency, angle)).map(|x| (x, scale.y(s.sample_power)))
                 })
                 .collect()
         })
@@ -284,8 +386,9 @@ fn render(
         .chain(true_pts.iter().map(|p| p.1))
         .fold(f64::NEG_INFINITY, f64::max);
     let floor = curve.iter().map(|p| p.1).fold(f64::INFINITY, f64::min);
-    let (ylo, yhi) = ((floor - 3.0).max(top - 60.0), top + 8.0);
-    let lines = caption(path, data, truth, est, (width as usize - 48) / 7);
+    let (ylo, yhi) = scale.range(floor, top);
+    let outside = est.sources.len() - found.len();
+    let lines = caption(path, data, truth, est, outside, (width as usize - 48) / 7);
     let top_h = 440u32;
     let height = top_h + 24 * lines.len() as u32 + 24;
     let mut svg = String::new();
@@ -311,7 +414,7 @@ fn render(
         chart
             .configure_mesh()
             .x_desc(axis.label())
-            .y_desc("power (dB)")
+            .y_desc(format!("power ({})", scale.unit()))
             .x_label_formatter(&|x| sig(*x, 4))
             .y_label_formatter(&|y| sig(*y, 4))
             .axis_desc_style(("sans-serif", 16))
@@ -323,7 +426,10 @@ fn render(
         chart
             .draw_series(LineSeries::new(curve, DATA.stroke_width(2)))
             .map_err(draw_err)?
-            .label("average periodogram over the snapshots (dB)")
+            .label(format!(
+                "average periodogram over the snapshots ({})",
+                scale.unit()
+            ))
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 22, y)], DATA.stroke_width(2)));
         if !true_pts.is_empty() {
             chart
@@ -331,7 +437,7 @@ fn render(
                     PathElement::new(vec![(x, ylo), (x, h)], TRUE.mix(0.55).stroke_width(6))
                 }))
                 .map_err(draw_err)?
-                .label("true sources (drawn power, dB)")
+                .label(format!("true sources (drawn power, {})", scale.unit()))
                 .legend(|(x, y)| {
                     EmptyElement::at((x + 11, y)) + Circle::new((0, 0), 7, TRUE.stroke_width(2))
                 });
@@ -350,7 +456,11 @@ fn render(
                     .map(|&(x, h)| PathElement::new(vec![(x, ylo), (x, h)], FOUND.stroke_width(2))),
             )
             .map_err(draw_err)?
-            .label(format!("recovered sources, power in dB ({})", est.method))
+            .label(format!(
+                "recovered sources, power {} ({})",
+                scale.unit(),
+                est.method
+            ))
             .legend(|(x, y)| {
                 EmptyElement::at((x + 11, y)) + Circle::new((0, 0), 4, FOUND.filled())
             });
@@ -441,7 +551,7 @@ mod render_tests {
             &draw.data,
             Some(&truth),
             &est,
-            axis,
+            (axis, Scale(false)),
             axis.full(),
             1100,
         )
@@ -464,5 +574,43 @@ mod render_tests {
             svg.contains("WARNING: AMBIGUOUS ANGLES"),
             "ambiguity is said in the caption"
         );
+    }
+
+    #[test]
+    fn the_closest_view_frames_the_closest_pair_in_frequency_and_in_angle() {
+        // Two sources 0.7/M apart near f = 0.2 and one far away at f = −0.3, 64 sensors: the
+        // closest view holds the pair (with about ten cells 1/M around it) and leaves the third out.
+        // (With a dozen sensors ten cells are most of the axis, and the view stays whole.)
+        let positions = [0.2, 0.2 + 0.7 / 64.0, -0.3];
+        let draw = ArrayScene::new(64, 20, &positions)
+            .unwrap()
+            .with_seed(3)
+            .draw()
+            .unwrap();
+        let est =
+            ArrayEstimate::assemble("test", &draw.data, &positions, finespike::Status::Solved)
+                .unwrap()
+                .noise(Some(1.0), false, None);
+        let plain = Axis { spacing: None };
+        let (x0, x1) = plain.view(View::Closest, &est, 64, 1100);
+        assert!(x0 < 0.2 && 0.2 + 0.7 / 64.0 < x1, "{x0} {x1}");
+        assert!(x0 > -0.3 && x1 - x0 < 0.5, "{x0} {x1}");
+        assert_eq!(plain.view(View::Whole, &est, 64, 1100), plain.full());
+        // With half-wavelength spacing the frame is in degrees, θ = asin(f/d).
+        let angled = Axis { spacing: Some(0.5) };
+        let (a0, a1) = angled.view(View::Closest, &est, 64, 1100);
+        let (t0, t1) = (
+            (0.2f64 / 0.5).asin().to_degrees(),
+            ((0.2 + 0.7 / 64.0) / 0.5f64).asin().to_degrees(),
+        );
+        assert!(a0 < t0 && t1 < a1 && a0 > (-0.3f64 / 0.5).asin().to_degrees());
+    }
+
+    #[test]
+    fn the_linear_scale_draws_powers_as_they_are() {
+        assert_eq!(Scale(true).y(4.0), 4.0);
+        assert!((Scale(false).y(100.0) - 20.0).abs() < 1e-12);
+        assert_eq!(Scale(true).range(-1.0, 2.0).0, 0.0);
+        assert_eq!(Scale(false).range(-100.0, 20.0), (-40.0, 28.0));
     }
 }

@@ -569,6 +569,28 @@ fn simulate_recover_compare_plot_round_trip() {
         text.contains("found 3, missed 0, spurious 0"),
         "caption scores the truth"
     );
+    assert!(text.contains("power (dB)"));
+    // --levels linear draws the powers as they are; --view closest frames the closest pair (at
+    // 16 sensors ten cells 1/M on either side are most of the axis, so it may hold every source:
+    // the caption names the ones left out when there are any).
+    let out = run(&[
+        "plot",
+        "-i",
+        s(&csv),
+        "--spacing",
+        "0.5",
+        "-m",
+        "esprit",
+        "--levels",
+        "linear",
+        "--view",
+        "closest",
+        "-o",
+        s(&svg),
+    ]);
+    ok(&out);
+    let text = std::fs::read_to_string(&svg).unwrap();
+    assert!(text.contains("power (linear)") && !text.contains("power (dB)"));
 }
 
 #[test]

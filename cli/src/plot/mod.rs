@@ -60,7 +60,8 @@ pub struct PlotArgs {
     view: View,
     /// Vertical scale of the top panel: `linear`, `db` (20·log10 of the modulus, so the periodogram's
     /// noise floor shows beside lines far above it), or `auto` (`db` for records of 4096 samples or
-    /// coefficients and more).
+    /// coefficients and more, and always for the spatial spectrum of a snapshot file, whose powers
+    /// are drawn as 10·log10 or, with `linear`, as they are).
     #[arg(long, value_enum, default_value_t = Levels::Auto)]
     levels: Levels,
     /// Width of the figure in pixels.
@@ -155,7 +156,13 @@ pub fn run(a: PlotArgs) -> Result<(), Failure> {
     }
     if crate::array_input::is_snapshot_file(a.samples.path()?) {
         let (truth, range) = (a.truth.as_deref(), a.range.as_deref());
-        return crate::array_plot::run(&a.samples, &a.method, truth, range, a.width, &a.out);
+        let look = crate::array_plot::Look {
+            range,
+            view: a.view,
+            levels: a.levels,
+            width: a.width,
+        };
+        return crate::array_plot::run(&a.samples, &a.method, truth, look, &a.out);
     }
     let noise = requested_noise(a.method.sigma)?;
     let data = a.samples.load()?;
