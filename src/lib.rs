@@ -65,7 +65,7 @@ pub use num_complex;
 /// The complex type of every amplitude and sample.
 pub use num_complex::Complex64;
 
-pub use batch::{estimate_batch, estimate_batch_with_progress};
+pub use batch::{estimate_batch, estimate_batch_with_progress, estimate_snapshots_batch};
 pub use bounds::{
     conditional_crb, crb, crb_for, single_tone_position_variance, stochastic_crb, Crb, SpikeBound,
 };

@@ -158,3 +158,48 @@ fn empty_batch_gives_no_results_and_no_progress() {
     });
     assert!(results.is_empty());
 }
+
+#[test]
+fn snapshot_batch_equals_one_by_one_and_keeps_refusals_in_place() {
+    use finespike::eval::array_scene::ArrayScene;
+    use finespike::{estimate_snapshots_batch, ArrayEstimate, Snapshots};
+    // Invented array scenes: 10 to 14 sensors, 20 snapshots, two sources 2/M apart at 15 dB.
+    let data: Vec<Snapshots> = (0..5u64)
+        .map(|i| {
+            let m = 10 + 2 * (i as usize % 3);
+            let f0 = 0.1 + 0.05 * i as f64;
+            ArrayScene::new(m, 20, &[f0, f0 + 2.0 / m as f64])
+                .and_then(|s| s.with_snr_db(15.0))
+                .map(|s| s.with_seed(40 + i))
+                .and_then(|s| s.draw())
+                .expect("array scene")
+                .data
+        })
+        .collect();
+    let timeless = |e: &ArrayEstimate| {
+        let mut e = e.clone();
+        e.diagnostics.solve_seconds = 0.0;
+        e
+    };
+    for est in [
+        Box::new(Esprit::default()) as Box<dyn Estimator>,
+        Box::new(Tv::default()),
+    ] {
+        let single: Vec<_> = data.iter().map(|d| est.estimate_snapshots(d)).collect();
+        for threads in [1, 3] {
+            let batch = pool(threads).install(|| estimate_snapshots_batch(est.as_ref(), &data));
+            assert_eq!(batch.len(), single.len());
+            for (i, (b, s)) in batch.iter().zip(&single).enumerate() {
+                let (b, s) = (b.as_ref().expect("batch"), s.as_ref().expect("single"));
+                assert_eq!(b.sources.len(), 2, "{} record {i}", est.name());
+                assert_eq!(timeless(b), timeless(s), "{} record {i}", est.name());
+            }
+        }
+    }
+    // A method that takes no snapshots refuses every record, each in its place.
+    let refused = estimate_snapshots_batch(&GridL1::default(), &data);
+    assert_eq!(refused.len(), data.len());
+    assert!(refused
+        .iter()
+        .all(|r| matches!(r, Err(finespike::Error::SnapshotsNotTaken { .. }))));
+}

@@ -83,6 +83,11 @@ pub(crate) fn solve(prog: &ConicProgram, settings: IpmSettings) -> Result<ConicS
         .tol_gap_rel(settings.tolerance)
         .tol_feas(settings.tolerance)
         .direct_solve_method("faer".to_string())
+        // One thread: clarabel's faer factorisation would otherwise split its work over rayon's
+        // current pool, and the rounding of the answer would depend on the number of threads
+        // (the joint SDP moved by 1e-10 between a pool of 1 and of 3); batches and campaigns
+        // promise results identical to one-by-one runs and run the records in parallel instead.
+        .max_threads(1)
         .presolve_enable(false)
         .chordal_decomposition_enable(false)
         .build()
