@@ -7,8 +7,8 @@ use crate::{configure, input, requested_noise, shown, Failure, Format, MethodArg
 use finespike::eval::io_snapshots::array_estimate_json;
 use finespike::{ArrayEstimate, NoiseLevel, Snapshots, Warning, PROVEN_SEPARATION_FC};
 
-/// Read the snapshot file of `samples` with its flags; the flags of single records (units, trend)
-/// are refused.
+/// Read the snapshot file `path` with the flags of `samples`; the flags of single records (units,
+/// trend) are refused.
 pub fn load(samples: &input::SampleArgs, path: &std::path::Path) -> Result<Snapshots, Failure> {
     let r = &samples.record;
     if r.rate.is_some() || r.length.is_some() || r.detrend.is_some() {
@@ -49,6 +49,75 @@ pub fn run(
     };
     crate::emit(&format!("{}\n", text.trim_end()))?;
     Ok(())
+}
+
+/// `recover` on several snapshot files: every file read (a file that cannot be read is reported on
+/// its own line), the estimates made in parallel on all cores
+/// ([`finespike::estimate_snapshots_batch`]: input order, the same results as one file at a time),
+/// then one JSON object per input on stdout, in input order, each with an `"input"` field holding
+/// the path and either the array result or an `"error"`. The exit code is that of the first failure
+/// (3 unreadable file, 4 estimate refused), after every line is written.
+pub fn run_batch(
+    samples: &input::SampleArgs,
+    method: &MethodArgs,
+    format: Format,
+) -> Result<(), Failure> {
+    if format != Format::Json {
+        return Err(Failure::Usage(
+            "several --input files are written as JSON Lines; --format csv takes one file".into(),
+        ));
+    }
+    let noise = requested_noise(method.sigma)?;
+    let estimator = configure(method, noise)?;
+    let loaded: Vec<Result<Snapshots, Failure>> =
+        samples.input.iter().map(|p| load(samples, p)).collect();
+    if let Some(Err(f @ Failure::Usage(_))) = loaded.iter().find(|r| r.is_err()) {
+        // A flag that does not apply is the command line's fault, not one file's.
+        return Err(Failure::Usage(crate::recover::failure_text(f)));
+    }
+    let records: Vec<Snapshots> = loaded
+        .iter()
+        .filter_map(|r| r.as_ref().ok().cloned())
+        .collect();
+    let mut estimates = finespike::estimate_snapshots_batch(estimator.as_ref(), &records)
+        .into_iter()
+        .zip(records.iter());
+    let mut first_failure: Option<Failure> = None;
+    for (path, load) in samples.input.iter().zip(loaded) {
+        let name = shown(path);
+        let line = match load {
+            Err(f) => {
+                let text = crate::recover::failure_text(&f);
+                first_failure.get_or_insert(f);
+                serde_json::json!({ "input": name, "error": text })
+            }
+            Ok(_) => match estimates.next() {
+                Some((Ok(estimate), data)) => {
+                    for w in warnings(&estimate) {
+                        eprintln!("warning: {name}: {w}");
+                    }
+                    let mut v = array_estimate_json(&estimate, data);
+                    if let Some(obj) = v.as_object_mut() {
+                        obj.insert("input".into(), serde_json::Value::String(name));
+                    }
+                    v
+                }
+                Some((Err(e), _)) => {
+                    let text = e.to_string();
+                    first_failure.get_or_insert(Failure::Estimate(e));
+                    serde_json::json!({ "input": name, "error": text })
+                }
+                // Invariant: `records` holds exactly the loaded files, in order, and the batch
+                // returns one result per record, so each `Ok` load has its estimate.
+                None => unreachable!("one estimate per loaded snapshot file"),
+            },
+        };
+        crate::emit(&format!("{line}\n"))?;
+    }
+    match first_failure {
+        Some(f) => Err(f),
+        None => Ok(()),
+    }
 }
 
 /// The sources as CSV: `position,frequency,angle_deg,power,crb_std,crb_std_angle_deg,

@@ -23,7 +23,8 @@ use serde_json::{json, Value};
 /// offset or trend), `record`, and the complex-model `spikes`, `status` and `diagnostics`.
 ///
 /// A snapshot file (`n,snapshot,re,im`: L snapshots of an array of sensors) is recognised by its
-/// header and goes to the methods that take snapshots (sdp, ast, sfw, music, esprit, pencil; the
+/// header (several snapshot files give JSON Lines, as several records do) and goes to the methods
+/// that take snapshots (sdp, ast, sfw, music, esprit, pencil; the
 /// others refuse with exit 4). JSON: `sources` (position, signed spatial frequency in cycles per
 /// sensor, power, amplitudes [re, im] per snapshot, crb_std; with --spacing angle_deg and
 /// crb_std_angle_deg), `resolution` (1/M), `array`, `method`, `status`, `diagnostics`; the summary
@@ -44,10 +45,22 @@ pub struct RecoverArgs {
 }
 
 pub fn run(a: RecoverArgs) -> Result<(), Failure> {
-    if let [one] = a.samples.input.as_slice() {
-        if crate::array_input::is_snapshot_file(one) {
-            return crate::array_recover::run(&a.samples, &a.method, a.format, a.quiet);
+    let arrays = a
+        .samples
+        .input
+        .iter()
+        .filter(|p| crate::array_input::is_snapshot_file(p))
+        .count();
+    match (arrays, a.samples.input.len()) {
+        (0, _) => {}
+        (1, 1) => return crate::array_recover::run(&a.samples, &a.method, a.format, a.quiet),
+        (k, n) if k == n => {
+            return crate::array_recover::run_batch(&a.samples, &a.method, a.format)
         }
+        (k, n) => return Err(Failure::Usage(format!(
+            "{k} of the {n} --input files are snapshot files (array data) and the others single \
+                 records: give one kind per run"
+        ))),
     }
     let noise = requested_noise(a.method.sigma)?;
     if a.samples.input.len() > 1 {
@@ -88,18 +101,6 @@ fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
         ));
     }
     let estimator = configure(&a.method, noise)?;
-    if let Some(p) = a
-        .samples
-        .input
-        .iter()
-        .find(|p| crate::array_input::is_snapshot_file(p))
-    {
-        return Err(Failure::Usage(format!(
-            "{} is a snapshot file: snapshot files are recovered one per run (give it alone to \
-             --input)",
-            crate::shown(p)
-        )));
-    }
     let loaded: Vec<Result<finespike::Measurements, Failure>> = a
         .samples
         .input
@@ -236,7 +237,7 @@ pub fn result_json(estimate: &Estimate, data: &Measurements) -> Value {
 }
 
 /// The message of a failure, as the error line would print it.
-fn failure_text(f: &Failure) -> String {
+pub(crate) fn failure_text(f: &Failure) -> String {
     match f {
         Failure::Usage(s) | Failure::NoEstimate(s) | Failure::Output(s) => s.clone(),
         Failure::Input(e) | Failure::Estimate(e) => e.to_string(),

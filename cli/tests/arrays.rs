@@ -202,7 +202,7 @@ fn options_are_refused_where_they_do_not_apply() {
         (
             vec!["recover", "-i", s(&csv), s(&single)],
             2,
-            "recovered one per run",
+            "give one kind per run",
         ),
         (
             vec!["recover", "-i", s(&csv), "--domain", "fourier"],
@@ -636,4 +636,65 @@ fn a_coherent_pair_is_found_and_a_wide_spacing_is_called_ambiguous() {
         "{}",
         stderr(&out)
     );
+}
+
+#[test]
+fn several_snapshot_files_give_one_json_line_each_in_input_order() {
+    let dir = tmpdir("arrbatch");
+    // Invented, seeded scenes: 12 and 16 sensors, two sources each, and a broken file between them.
+    let (a, _) = array_scene(
+        &dir,
+        "a",
+        &[
+            "--sensors",
+            "12",
+            "--snapshots",
+            "30",
+            "--count",
+            "2",
+            "--snr",
+            "15",
+            "--seed",
+            "1",
+        ],
+    );
+    let (b, _) = array_scene(
+        &dir,
+        "b",
+        &[
+            "--sensors",
+            "16",
+            "--snapshots",
+            "30",
+            "--count",
+            "2",
+            "--snr",
+            "15",
+            "--seed",
+            "2",
+        ],
+    );
+    let bad = write(&dir, "bad.csv", "n,snapshot,re,im\n0,0,1,0\n1,0,x,0\n");
+    let out = run(&["recover", "-i", s(&a), s(&bad), s(&b), "-m", "esprit", "-q"]);
+    assert_exit(&out, 3, "a broken file among the inputs");
+    let text = String::from_utf8(out.stdout.clone()).unwrap();
+    let lines: Vec<Value> = text
+        .lines()
+        .map(|l| serde_json::from_str(l).expect("one JSON object per line"))
+        .collect();
+    assert_eq!(lines.len(), 3, "{text}");
+    assert_eq!(lines[0]["input"], s(&a));
+    assert_eq!(lines[0]["array"]["span"], 12);
+    assert_eq!(lines[0]["sources"].as_array().map(Vec::len), Some(2));
+    assert!(lines[1]["error"].as_str().unwrap().contains("line 3"));
+    assert_eq!(lines[2]["array"]["span"], 16);
+    // Each line equals the result of that file alone (the batch runs in parallel).
+    let alone: Value =
+        serde_json::from_str(&ok(&run(&["recover", "-i", s(&b), "-m", "esprit", "-q"]))).unwrap();
+    assert_eq!(lines[2]["sources"], alone["sources"]);
+    // One kind per run.
+    let (single, _) = simulate(&dir, "single", &["--fc", "8", "--count", "2"]);
+    let out = run(&["recover", "-i", s(&a), s(&single)]);
+    assert_exit(&out, 2, "a snapshot file mixed with a single record");
+    assert!(stderr(&out).contains("give one kind per run"));
 }
