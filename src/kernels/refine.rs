@@ -12,7 +12,7 @@
 use crate::error::{check, Result};
 use crate::kernels::band::{dirichlet_sums, exp_sweep, parallel_pays, residual_on};
 use crate::kernels::cg::{solve_spd, ITERATIVE_FROM};
-use crate::model::{atom, wrap, wrap_difference, Measurements, Spike, Spikes};
+use crate::model::{wrap, wrap_difference, Measurements, Spike, Spikes};
 use faer::linalg::solvers::Solve;
 use faer::{Mat, Side};
 use num_complex::Complex64;
@@ -104,17 +104,20 @@ pub struct Refined {
     pub final_residual: f64,
 }
 
-/// The residual, after refitting the record's trend if it has one (`P⊥(x − Fμ)`).
+/// The residual, after refitting the record's trend if it has one (`P⊥(x − Fμ)`). The atoms
+/// `exp(−i2πkτ)` come from the anchored recurrence ([`exp_sweep`]), one sine and cosine per 32
+/// samples instead of one per sample and spike (on a gapped real record of 100 000 samples those
+/// took a third of the whole estimate).
 fn residual(data: &Measurements, pos: &[f64], amp: &[Complex64]) -> Vec<Complex64> {
-    let mut r: Vec<Complex64> = data
-        .indices()
-        .iter()
-        .zip(data.values())
-        .map(|(&k, &y)| {
-            let model: Complex64 = pos.iter().zip(amp).map(|(&t, &a)| a * atom(k, t)).sum();
-            y - model
-        })
-        .collect();
+    let ks = data.indices();
+    let mut r: Vec<Complex64> = data.values().to_vec();
+    let mut col = vec![Complex64::new(0.0, 0.0); ks.len()];
+    for (&t, &a) in pos.iter().zip(amp) {
+        exp_sweep(ks, t, &mut col);
+        for (ri, z) in r.iter_mut().zip(&col) {
+            *ri -= a * z.conj();
+        }
+    }
     if let Some(b) = data.trend_basis() {
         b.project(&mut r);
     }
@@ -161,10 +164,13 @@ pub fn refine(data: &Measurements, spikes: &Spikes, settings: RefineSettings) ->
         // `Trend`).
         let mut jac = Mat::<f64>::zeros(2 * m, p);
         let mut column = vec![Complex64::new(0.0, 0.0); m];
+        let mut conj_atoms = vec![Complex64::new(0.0, 0.0); m];
         for j in 0..s {
+            // exp(+i2πkτ_j) once per spike; its conjugate is the atom exp(−i2πkτ_j).
+            exp_sweep(data.indices(), pos[j], &mut conj_atoms);
             for (which, col) in [j, s + j, 2 * s + j].into_iter().enumerate() {
                 for (row, &k) in data.indices().iter().enumerate() {
-                    let e = atom(k, pos[j]);
+                    let e = conj_atoms[row].conj();
                     column[row] = match which {
                         0 => -(amp[j] * Complex64::new(0.0, -2.0 * PI * k as f64) * e),
                         1 => -e,
