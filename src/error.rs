@@ -199,7 +199,10 @@ pub enum Error {
         detail: String,
     },
     /// A malformed input file or record.
-    #[error("{source_name}, line {line}: {message}")]
+    #[error(
+        "{source_name}{}: {message}",
+        if *line == 0 { String::new() } else { format!(", line {line}") }
+    )]
     Parse {
         /// File name (or `<input>`).
         source_name: String,

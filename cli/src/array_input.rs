@@ -49,13 +49,7 @@ pub fn load_snapshots(
     domain: Option<DomainArg>,
     spacing: Option<f64>,
 ) -> Result<Snapshots, Failure> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        Failure::Input(Error::Parse {
-            source_name: shown(path),
-            line: 0,
-            message: format!("cannot read the file: {e}"),
-        })
-    })?;
+    let text = finespike::eval::io::read_file_text(path).map_err(Failure::Input)?;
     let rows = io_snapshots::parse_snapshots(&text, &shown(path)).map_err(Failure::Input)?;
     let header = match rows.domain {
         Domain::Time => "n,snapshot,re,im",
@@ -87,13 +81,7 @@ pub fn load_snapshots(
 
 /// Read an array truth (exit 3 when malformed).
 pub fn load_array_truth(path: &Path) -> Result<ArrayTruth, Failure> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        Failure::Input(Error::Parse {
-            source_name: shown(path),
-            line: 0,
-            message: format!("cannot read the file: {e}"),
-        })
-    })?;
+    let text = finespike::eval::io::read_file_text(path).map_err(Failure::Input)?;
     io_snapshots::parse_array_truth(&text, &shown(path)).map_err(Failure::Input)
 }
 

@@ -11,13 +11,7 @@ use std::path::Path;
 
 /// Read and check the plan file.
 fn read_plan(path: &Path) -> Result<Plan, Failure> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        Failure::Input(finespike::Error::Parse {
-            source_name: path.display().to_string(),
-            line: 0,
-            message: format!("cannot read the plan: {e}"),
-        })
-    })?;
+    let text = finespike::eval::io::read_file_text(path).map_err(Failure::Input)?;
     // Malformed JSON and invalid settings alike are a bad input file (exit 3); the message names
     // the file (and the line for malformed JSON).
     Plan::from_json(&text, &path.display().to_string()).map_err(|e| match e {

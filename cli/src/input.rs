@@ -14,8 +14,7 @@ fn parse_error(path: &Path, line: usize, message: String) -> Error {
 }
 
 fn read_text(path: &Path) -> Result<String, Error> {
-    std::fs::read_to_string(path)
-        .map_err(|e| parse_error(path, 0, format!("cannot read the file: {e}")))
+    io::read_file_text(path)
 }
 
 /// The sample file of `recover` and `plot`, with the flags that fix its band.

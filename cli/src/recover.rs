@@ -57,10 +57,12 @@ pub fn run(a: RecoverArgs) -> Result<(), Failure> {
         (k, n) if k == n => {
             return crate::array_recover::run_batch(&a.samples, &a.method, a.format)
         }
-        (k, n) => return Err(Failure::Usage(format!(
+        (k, n) => {
+            return Err(Failure::Usage(format!(
             "{k} of the {n} --input files are snapshot files (array data) and the others single \
                  records: give one kind per run"
-        ))),
+        )))
+        }
     }
     let noise = requested_noise(a.method.sigma)?;
     if a.samples.input.len() > 1 {

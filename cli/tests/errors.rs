@@ -129,7 +129,23 @@ fn malformed_sample_files_name_file_line_found_and_expected() {
     }
     let out = run(&["recover", "-i", "/nonexistent/file.csv"]);
     assert_eq!(out.status.code(), Some(3));
-    assert!(stderr(&out).contains("/nonexistent/file.csv, line 0: cannot read the file"));
+    assert!(stderr(&out).contains("/nonexistent/file.csv: cannot read the file"));
+    // A binary file (not UTF-8 text) is named as such, without a line number.
+    let binary = dir.join("binary.csv");
+    std::fs::write(&binary, [0x6e, 0x2c, 0xff, 0xfe, 0x00, 0x81, 0x0a]).unwrap();
+    for sub in ["recover", "plot"] {
+        let mut args = vec![sub, "-i", s(&binary)];
+        if sub == "plot" {
+            args.extend(["-o", "x.svg"]);
+        }
+        let out = run(&args);
+        assert_eq!(out.status.code(), Some(3), "{sub}");
+        assert!(
+            stderr(&out).contains("binary.csv: cannot read the file: it is not text (not UTF-8)"),
+            "{sub}: {}",
+            stderr(&out)
+        );
+    }
     let p = write(&dir, "k.csv", "k,re,im\n0,1,0\n");
     let out = run(&["recover", "-i", s(&p), "--fc", "0"]);
     assert_eq!(out.status.code(), Some(3));

@@ -277,13 +277,26 @@ pub fn read_samples(path: &Path) -> Result<SampleRows> {
 /// The text of the file at `path` and its name as shown in errors; an unreadable file is
 /// [`Error::Parse`] at line 0.
 fn read_text(path: &Path) -> Result<(String, String)> {
-    let name = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| Error::Parse {
-        source_name: name.clone(),
+    Ok((read_file_text(path)?, path.display().to_string()))
+}
+
+/// The text of the file at `path`, for every reader of input files (samples, spikes, snapshots,
+/// truths, plans). A file that cannot be read, or is not text, is [`Error::Parse`] without a line
+/// number, naming the file.
+///
+/// # Errors
+/// [`Error::Parse`] (line 0) when the file is missing, unreadable or not UTF-8 text.
+pub fn read_file_text(path: &Path) -> Result<String> {
+    std::fs::read_to_string(path).map_err(|e| Error::Parse {
+        source_name: path.display().to_string(),
         line: 0,
-        message: format!("cannot read the file: {e}"),
-    })?;
-    Ok((text, name))
+        message: if e.kind() == std::io::ErrorKind::InvalidData {
+            "cannot read the file: it is not text (not UTF-8); expected a CSV or JSON text file"
+                .into()
+        } else {
+            format!("cannot read the file: {e}")
+        },
+    })
 }
 
 /// `x` in full (the shortest text that reads back to the same `f64`), in fixed notation from 0.0001
