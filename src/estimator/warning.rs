@@ -187,7 +187,8 @@ impl fmt::Display for Warning {
                 "a line at frequency {frequency:.4e} (amplitude {amplitude:.4}) lies {cells:.2} \
                  resolution cells from zero frequency, next to the fitted trend: a record this \
                  long cannot tell it from a slow drift, wander or red noise; do not read it as a \
-                 periodic component without other evidence"
+                 periodic component without other evidence (if the record drifts, a trend of \
+                 higher degree may absorb it)"
             ),
             Warning::CancellingPair {
                 positions,
