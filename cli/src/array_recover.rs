@@ -75,49 +75,17 @@ pub fn run_batch(
         // A flag that does not apply is the command line's fault, not one file's.
         return Err(Failure::Usage(crate::recover::failure_text(f)));
     }
-    let records: Vec<Snapshots> = loaded
-        .iter()
-        .filter_map(|r| r.as_ref().ok().cloned())
-        .collect();
-    let mut estimates = finespike::estimate_snapshots_batch(estimator.as_ref(), &records)
-        .into_iter()
-        .zip(records.iter());
-    let mut first_failure: Option<Failure> = None;
-    for (path, load) in samples.input.iter().zip(loaded) {
-        let name = shown(path);
-        let line = match load {
-            Err(f) => {
-                let text = crate::recover::failure_text(&f);
-                first_failure.get_or_insert(f);
-                serde_json::json!({ "input": name, "error": text })
+    crate::recover::json_lines(
+        &samples.input,
+        loaded,
+        |records| finespike::estimate_snapshots_batch(estimator.as_ref(), records),
+        |estimate, data, name| {
+            for w in warnings(estimate) {
+                eprintln!("warning: {name}: {w}");
             }
-            Ok(_) => match estimates.next() {
-                Some((Ok(estimate), data)) => {
-                    for w in warnings(&estimate) {
-                        eprintln!("warning: {name}: {w}");
-                    }
-                    let mut v = array_estimate_json(&estimate, data);
-                    if let Some(obj) = v.as_object_mut() {
-                        obj.insert("input".into(), serde_json::Value::String(name));
-                    }
-                    v
-                }
-                Some((Err(e), _)) => {
-                    let text = e.to_string();
-                    first_failure.get_or_insert(Failure::Estimate(e));
-                    serde_json::json!({ "input": name, "error": text })
-                }
-                // Invariant: `records` holds exactly the loaded files, in order, and the batch
-                // returns one result per record, so each `Ok` load has its estimate.
-                None => unreachable!("one estimate per loaded snapshot file"),
-            },
-        };
-        crate::emit(&format!("{line}\n"))?;
-    }
-    match first_failure {
-        Some(f) => Err(f),
-        None => Ok(()),
-    }
+            array_estimate_json(estimate, data)
+        },
+    )
 }
 
 /// The sources as CSV: `position,frequency,angle_deg,power,crb_std,crb_std_angle_deg,

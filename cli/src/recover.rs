@@ -109,28 +109,46 @@ fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
         .iter()
         .map(|p| a.samples.load_path(p))
         .collect();
-    let records: Vec<finespike::Measurements> = loaded
+    json_lines(
+        &a.samples.input,
+        loaded,
+        |records| finespike::estimate_batch(estimator.as_ref(), records),
+        |estimate, data, shown| {
+            for w in warnings(estimate) {
+                eprintln!("warning: {shown}: {w}");
+            }
+            result_json(estimate, data)
+        },
+    )
+}
+
+/// The JSON Lines of a batch (`recover` on several files, records or snapshot files alike): the
+/// files that loaded are estimated together by `estimate_all` (one result per record, in order),
+/// then one line per input in input order, `{"input": path, …}` with `describe`'s result or with
+/// `"error"`. The exit code is that of the first failure, after every line is written.
+pub(crate) fn json_lines<R: Clone, E>(
+    inputs: &[std::path::PathBuf],
+    loaded: Vec<Result<R, Failure>>,
+    estimate_all: impl FnOnce(&[R]) -> Vec<finespike::Result<E>>,
+    describe: impl Fn(&E, &R, &str) -> Value,
+) -> Result<(), Failure> {
+    let records: Vec<R> = loaded
         .iter()
         .filter_map(|r| r.as_ref().ok().cloned())
         .collect();
-    let mut estimates = finespike::estimate_batch(estimator.as_ref(), &records)
-        .into_iter()
-        .zip(records.iter());
+    let mut estimates = estimate_all(&records).into_iter().zip(records.iter());
     let mut first_failure: Option<Failure> = None;
-    for (path, load) in a.samples.input.iter().zip(loaded) {
+    for (path, load) in inputs.iter().zip(loaded) {
         let shown = crate::shown(path);
         let line = match load {
             Err(f) => {
                 let text = failure_text(&f);
                 first_failure.get_or_insert(f);
-                serde_json::json!({ "input": shown, "error": text })
+                json!({ "input": shown, "error": text })
             }
             Ok(_) => match estimates.next() {
                 Some((Ok(estimate), data)) => {
-                    for w in warnings(&estimate) {
-                        eprintln!("warning: {shown}: {w}");
-                    }
-                    let mut v = result_json(&estimate, data);
+                    let mut v = describe(&estimate, data, &shown);
                     if let Some(obj) = v.as_object_mut() {
                         obj.insert("input".into(), Value::String(shown));
                     }
@@ -139,10 +157,10 @@ fn run_batch(a: &RecoverArgs, noise: NoiseLevel) -> Result<(), Failure> {
                 Some((Err(e), _)) => {
                     let text = e.to_string();
                     first_failure.get_or_insert(Failure::Estimate(e));
-                    serde_json::json!({ "input": shown, "error": text })
+                    json!({ "input": shown, "error": text })
                 }
                 // Invariant: `records` holds exactly the loaded files, in order, and
-                // `estimate_batch` returns one result per record, so each `Ok` load has its estimate.
+                // `estimate_all` returns one result per record, so each `Ok` load has its estimate.
                 None => unreachable!("one estimate per loaded record"),
             },
         };

@@ -642,12 +642,10 @@ fn a_coherent_pair_is_found_and_a_wide_spacing_is_called_ambiguous() {
 fn several_snapshot_files_give_one_json_line_each_in_input_order() {
     let dir = tmpdir("arrbatch");
     // Invented, seeded scenes: 12 and 16 sensors, two sources each, and a broken file between them.
-    let (a, _) = array_scene(
-        &dir,
-        "a",
-        &[
+    let [a, b] = [("a", "12", "1"), ("b", "16", "2")].map(|(name, sensors, seed)| {
+        let args = [
             "--sensors",
-            "12",
+            sensors,
             "--snapshots",
             "30",
             "--count",
@@ -655,25 +653,10 @@ fn several_snapshot_files_give_one_json_line_each_in_input_order() {
             "--snr",
             "15",
             "--seed",
-            "1",
-        ],
-    );
-    let (b, _) = array_scene(
-        &dir,
-        "b",
-        &[
-            "--sensors",
-            "16",
-            "--snapshots",
-            "30",
-            "--count",
-            "2",
-            "--snr",
-            "15",
-            "--seed",
-            "2",
-        ],
-    );
+            seed,
+        ];
+        array_scene(&dir, name, &args).0
+    });
     let bad = write(&dir, "bad.csv", "n,snapshot,re,im\n0,0,1,0\n1,0,x,0\n");
     let out = run(&["recover", "-i", s(&a), s(&bad), s(&b), "-m", "esprit", "-q"]);
     assert_exit(&out, 3, "a broken file among the inputs");
