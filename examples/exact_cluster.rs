@@ -6,6 +6,7 @@
 //! ```text
 //! cargo run --release --example exact_cluster
 //! ```
+use finespike::eval::array_scene::SourceCorrelation;
 use finespike::eval::campaign::{
     draw_scene, trial_seed, AmplitudePattern, Band, Grid, MethodSpec, Plan, SeparationUnit,
 };
@@ -25,6 +26,8 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 AmplitudePattern::AlternatingSign,
             ],
             gaps: vec![0.0],
+            correlations: vec![SourceCorrelation::Uncorrelated],
+            spacing: None,
         },
         methods: vec![MethodSpec::new("sdp")],
         draws: 4,

@@ -72,7 +72,7 @@ pub struct PostProcess {
     /// points carry no mass in an exact fit.
     pub relative_floor: f64,
     /// Local least-squares polish (default on, never moving a spike more than 0.25/fc; on exact data
-    /// with [`EXACT_POLISH_FACTOR`] times its iteration limit).
+    /// with 40 times its iteration limit, see the source of `EXACT_POLISH_FACTOR`).
     pub refine: Option<RefineSettings>,
     /// With noise, spikes with another spike closer than this many Rayleigh lengths must pass the
     /// significance test of the module docs (default 1.0; 0 turns the test off).
