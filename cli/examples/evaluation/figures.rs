@@ -318,6 +318,10 @@ fn cost(points: &[Point], path: &Path) -> Fallible {
             ("sans-serif", 18).into_font().color(&INK),
         ))?;
         let (left, right) = rest.split_horizontally(550);
+        // Ticks at the measured sizes (a log axis left to itself labels only 100, 200, 300).
+        let mut sizes: Vec<f64> = points.iter().map(|p| p.n as f64).collect();
+        sizes.sort_by(f64::total_cmp);
+        sizes.dedup();
         let mut tc = ChartBuilder::on(&left)
             .caption(
                 "wall time of one estimate",
@@ -326,10 +330,14 @@ fn cost(points: &[Point], path: &Path) -> Fallible {
             .margin(10)
             .x_label_area_size(40)
             .y_label_area_size(60)
-            .build_cartesian_2d((24f64..nmax).log_scale(), (1e-5f64..tmax).log_scale())?;
+            .build_cartesian_2d(
+                (24f64..nmax).log_scale().with_key_points(sizes.clone()),
+                (1e-5f64..tmax).log_scale(),
+            )?;
         tc.configure_mesh()
             .light_line_style(GRID)
             .x_desc("N")
+            .x_label_formatter(&|x| format!("{x:.0}"))
             .y_desc("seconds")
             .label_style(("sans-serif", 13))
             .axis_desc_style(("sans-serif", 13))
@@ -342,10 +350,14 @@ fn cost(points: &[Point], path: &Path) -> Fallible {
             .margin(10)
             .x_label_area_size(40)
             .y_label_area_size(60)
-            .build_cartesian_2d((24f64..nmax).log_scale(), (0.01f64..mmax).log_scale())?;
+            .build_cartesian_2d(
+                (24f64..nmax).log_scale().with_key_points(sizes.clone()),
+                (0.01f64..mmax).log_scale(),
+            )?;
         mc.configure_mesh()
             .light_line_style(GRID)
             .x_desc("N")
+            .x_label_formatter(&|x| format!("{x:.0}"))
             .y_desc("MB (VmHWM - VmRSS before the estimate)")
             .label_style(("sans-serif", 13))
             .axis_desc_style(("sans-serif", 13))
