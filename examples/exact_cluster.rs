@@ -4,7 +4,8 @@
 //! the Cramér–Rao deviation at σ equal to that residual per sample. Every scene is invented.
 //!
 //! ```text
-//! cargo run --release --example exact_cluster
+//! cargo run --release --example exact_cluster            # 4 spikes 0.3/N
+//! cargo run --release --example exact_cluster -- 8 0.9  # another cell: spikes, separation (1/N)
 //! ```
 use finespike::eval::array_scene::SourceCorrelation;
 use finespike::eval::campaign::{
@@ -34,13 +35,16 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         seed: 1501,
         exact_tolerance: 1e-3,
     };
+    let args: Vec<String> = std::env::args().collect();
+    let spikes: usize = args.get(1).map_or(Ok(4), |a| a.parse())?;
+    let separation: f64 = args.get(2).map_or(Ok(0.3), |a| a.parse())?;
     let (conds, _) = plan.conditions();
     let c = conds
         .iter()
         .find(|c| {
             c.amplitudes == AmplitudePattern::RealPositive
-                && c.spikes == 4
-                && (c.separation_res - 0.3).abs() < 1e-12
+                && c.spikes == spikes
+                && (c.separation_res - separation).abs() < 1e-9
         })
         .ok_or("cell not in the grid")?;
     let n = c.band.len() as f64;
@@ -70,7 +74,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                         .map(|p| p.std_position * n)
                         .fold(0.0, f64::max)
                 })
-                .unwrap_or(f64::NAN);
+                .unwrap_or(f64::INFINITY);
             println!(
                 "  {name:6} {:?} found {} errors/N [{}] rel.residual {rel:.2e} CRB-std at that level {crb:.2e}/N",
                 est.status,

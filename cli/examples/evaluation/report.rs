@@ -181,16 +181,18 @@ pub fn write(
          the claim. For sdp the rule is per trial and uses the precision reached, not an assumed \
          one: a trial is left out when its spikes are not identifiable at double-precision rounding, \
          or when sdp itself reports that it did not verify its answer (any status but `solved`) and \
-         the measured residual of its fit cannot place the spikes to 10⁻³/N. Every `solved` trial must \
-         be exact. For MUSIC and ESPRIT a cell is left out when ε = {SUBSPACE_PRECISION:e} (our \
+         the measured residual of its fit cannot place the spikes to 10⁻³/N (or the bound refuses the \
+         cluster, Fisher condition above 10¹², so no precision can be shown to suffice). Every \
+         `solved` trial must be exact. For MUSIC and ESPRIT a cell is left out when ε = {SUBSPACE_PRECISION:e} (our \
          choice: a few thousand ulps) cannot place one of its draws. Left-out trials and cells are \
          named above and stay in the maps.\n\n\
-         A finding, not a failure of the theory: at 0.3/N (0.15/fc) the interior point (clarabel, \
-         stopping at relative gaps near 10⁻⁸) can return a dual polynomial whose maxima merge two \
-         positive spikes into one; sdp then reports `reduced accuracy`, never `solved`. An earlier \
-         version of the polish stopped after 50 Levenberg–Marquardt steps on such clusters and called \
-         positions 10⁻²/N off `solved`; on exact data it now runs to the exact fit \
-         (`examples/exact_cluster.rs`).\n"
+         Findings behind this rule (`examples/exact_cluster.rs`): at 0.3/N (0.15/fc) the interior \
+         point (clarabel, stopping at relative gaps near 10⁻⁸) can return a dual polynomial whose \
+         maxima merge two positive spikes into one, and at 0.3–0.6/N clusters of six or eight come \
+         back one spike short yet fitted to 10⁻⁹–10⁻⁸‖y‖. sdp reports these as `reduced accuracy` \
+         since its exact-fit rule requires 10⁻¹⁰‖y‖ (it was 10⁻⁶‖y‖, which let them pass as \
+         `solved`); and the shared polish, which stopped after 50 Levenberg–Marquardt steps on such \
+         clusters with positions 10⁻²/N off, now runs on exact data until the fit is exact.\n"
     )
     .ok();
     writeln!(w, "## Which method when\n").ok();
