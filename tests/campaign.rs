@@ -185,9 +185,79 @@ fn temp_dir(name: &str) -> PathBuf {
 
 #[test]
 fn tidy_files_read_back_in_rust_and_python() {
-    let plan = small_plan();
-    let c = run(&plan, &|_, _| {}).unwrap();
-    let dir = temp_dir("tidy");
+    let c = run(&small_plan(), &|_, _| {}).unwrap();
+    check_tidy(&c, "tidy");
+    let c = run(&array_plan(), &|_, _| {}).unwrap();
+    check_tidy(&c, "tidy-array");
+}
+
+/// A snapshot plan: a uniform line array, uncorrelated and coherent pairs, exact and noisy data;
+/// `greedy` takes no snapshots and is refused.
+fn array_plan() -> Plan {
+    Plan::from_json(
+        r#"{
+          "seed": 9, "draws": 3,
+          "grid": {"bands": [{"array": {"sensors": 10, "snapshots": 20}}], "separations": [3.0],
+                   "spikes": [2], "snr_db": [null, 20.0],
+                   "correlations": ["uncorrelated", "coherent"], "spacing": 0.5},
+          "methods": [{"name": "esprit"}, {"name": "music"}, {"name": "greedy"}]
+        }"#,
+        "plan.json",
+    )
+    .unwrap()
+}
+
+#[test]
+fn array_conditions_run_through_the_snapshot_estimators() {
+    let plan = array_plan();
+    let one = run_with_threads(&plan, 1);
+    let mut two = run_with_threads(&plan, 2);
+    let mut one_t = one.trials.clone();
+    for t in one_t.iter_mut().chain(two.trials.iter_mut()) {
+        t.seconds = 0.0;
+    }
+    assert_eq!(one_t, two.trials);
+    // 2 relations × 2 SNR × 3 draws × 3 methods.
+    assert_eq!(one.trials.len(), 2 * 2 * 3 * 3);
+    for t in &one.trials {
+        assert_eq!(t.condition.band.snapshots(), Some(20));
+        if t.method == "greedy" {
+            assert_eq!(t.status, "refused");
+            assert!(
+                t.error.as_deref().unwrap().contains("snapshot"),
+                "{:?}",
+                t.error
+            );
+            continue;
+        }
+        // Two sources 3/M apart, 20 dB per source, 20 snapshots: both subspace methods find them
+        // (spatial smoothing handles the coherent pair).
+        assert!(t.complete, "{t:?}");
+        if t.sigma == 0.0 {
+            // Exact data: exact at any separation with enough sensors (Liao & Fannjiang 2016,
+            // ACHA 40(1)), here to the plan's 1e-3/M.
+            assert!(t.success, "{t:?}");
+        } else {
+            for l in &t.lines {
+                // The conditional bound is there and the error within six of its deviations (a
+                // bound too small by an order of magnitude would fail this).
+                let r = l.error_over_crb.unwrap();
+                assert!(r.abs() < 6.0, "{t:?}");
+            }
+        }
+    }
+    let rows: Vec<_> = one.trials.iter().flat_map(|t| t.rows()).collect();
+    assert!(rows
+        .iter()
+        .all(|r| r.domain == "array" && r.snapshots == Some(20)));
+    assert!(rows.iter().any(|r| r.correlation == "coherent"));
+    assert!(rows.iter().all(|r| r.spacing == Some(0.5)));
+    let s = one.summaries();
+    assert_eq!(s.len(), one.conditions.len() * 3);
+}
+
+fn check_tidy(c: &Campaign, name: &str) {
+    let dir = temp_dir(name);
     let csv_path = dir.join("trials.csv");
     let jsonl_path = dir.join("trials.jsonl");
     c.write_csv(std::fs::File::create(&csv_path).unwrap())
@@ -218,7 +288,7 @@ fn tidy_files_read_back_in_rust_and_python() {
         assert_eq!(rec.len(), header.len());
         for (h, v) in header.iter().zip(rec.iter()) {
             match h.as_str() {
-                "method" | "domain" | "amplitudes" | "status" | "error" => {}
+                "method" | "domain" | "amplitudes" | "status" | "error" | "correlation" => {}
                 "complete" | "success" | "resolved" | "line_found" => {
                     assert!(v == "true" || v == "false", "{h} = {v}")
                 }
@@ -241,7 +311,7 @@ import csv, json, sys
 rows = list(csv.DictReader(open(sys.argv[1], newline="")))
 objs = [json.loads(l) for l in open(sys.argv[2])]
 assert len(rows) == len(objs), (len(rows), len(objs))
-text = {"method", "domain", "amplitudes", "status", "error"}
+text = {"method", "domain", "amplitudes", "status", "error", "correlation"}
 flags = {"complete", "success", "resolved", "line_found"}
 for r, o in zip(rows, objs):
     assert set(r) == set(o), set(r) ^ set(o)
@@ -273,4 +343,99 @@ print(len(rows))
         rows.to_string()
     );
     std::fs::remove_dir_all(&dir).ok();
+}
+
+/// The polish on exact data runs until the exact fit: four real-positive spikes `0.3/N` apart in
+/// `N = 33` (a cell of the evaluation's quick phase-transition map, its invented draws) came back
+/// `solved` with positions up to `2·10⁻²/N` off when the polish stopped at its ordinary iteration
+/// limit (`examples/exact_cluster.rs`). The check value is the scene's own truth; ESPRIT reaches it
+/// to `10⁻¹¹/N` on the same draws, so the spikes are identifiable to that level.
+#[test]
+fn sdp_polishes_a_close_positive_cluster_to_the_exact_fit() {
+    use finespike::eval::campaign::{draw_scene, trial_seed, AmplitudePattern};
+    let plan = Plan::from_json(
+        r#"{"seed": 1501, "draws": 4,
+            "grid": {"bands": [{"fc": 16}], "separations": [0.3, 0.6, 0.9, 1.2, 1.5, 1.8, 2.1, 2.5],
+                     "spikes": [2, 4, 6, 8],
+                     "amplitudes": ["random_phase", "real_positive", "alternating_sign"]},
+            "methods": [{"name": "sdp"}]}"#,
+        "plan.json",
+    )
+    .unwrap();
+    let (conditions, _) = plan.conditions();
+    let c = conditions
+        .iter()
+        .find(|c| {
+            c.amplitudes == AmplitudePattern::RealPositive
+                && c.spikes == 4
+                && c.separation_res == 0.3
+        })
+        .unwrap();
+    // Draws 0, 2 and 3 (draw 1 the convex solver merges to three spikes and reports reduced
+    // accuracy: a separate matter, see the evaluation report).
+    for draw in [0usize, 2, 3] {
+        let scene = draw_scene(c, trial_seed(plan.seed, c.index, draw)).unwrap();
+        let est = finespike::registry::estimator_by_name("sdp")
+            .unwrap()
+            .estimate(&scene.data)
+            .unwrap();
+        assert_eq!(est.spikes.len(), 4, "draw {draw}");
+        let mut got = est.spikes.positions();
+        got.sort_by(f64::total_cmp);
+        let mut truth = scene.truth.positions();
+        truth.sort_by(f64::total_cmp);
+        for (g, t) in got.iter().zip(&truth) {
+            // 1e-9/N: a hundred times the error ESPRIT leaves on these draws, ten million times
+            // below what the stalled polish left.
+            assert!((g - t).abs() * 33.0 < 1e-9, "draw {draw}: {g} vs {t}");
+        }
+    }
+}
+
+/// Nothing short of the exact fit is called `solved` on exact data: six real-positive spikes 0.3/N
+/// apart and eight 0.6/N apart (cells of the evaluation's quick map, its invented draws) come back
+/// from the interior point one spike short, fitted to 1e-9–3e-8‖y‖, and were reported `solved`
+/// under the former 1e-6‖y‖ exact-fit rule. The check value is the scene's own truth.
+#[test]
+fn sdp_does_not_call_a_short_support_solved() {
+    use finespike::eval::campaign::{draw_scene, trial_seed, AmplitudePattern};
+    use finespike::Status;
+    let plan = Plan::from_json(
+        r#"{"seed": 1501, "draws": 4,
+            "grid": {"bands": [{"fc": 16}], "separations": [0.3, 0.6, 0.9, 1.2, 1.5, 1.8, 2.1, 2.5],
+                     "spikes": [2, 4, 6, 8],
+                     "amplitudes": ["random_phase", "real_positive", "alternating_sign"]},
+            "methods": [{"name": "sdp"}]}"#,
+        "plan.json",
+    )
+    .unwrap();
+    let (conditions, _) = plan.conditions();
+    let mut short = 0;
+    for (spikes, sep) in [(6usize, 0.3), (8, 0.6)] {
+        let c = conditions
+            .iter()
+            .find(|c| {
+                c.amplitudes == AmplitudePattern::RealPositive
+                    && c.spikes == spikes
+                    && c.separation_res == sep
+            })
+            .unwrap();
+        for draw in 0..2 {
+            let scene = draw_scene(c, trial_seed(plan.seed, c.index, draw)).unwrap();
+            let est = finespike::registry::estimator_by_name("sdp")
+                .unwrap()
+                .estimate(&scene.data)
+                .unwrap();
+            if est.spikes.len() != spikes {
+                short += 1;
+                assert_ne!(
+                    est.status,
+                    Status::Solved,
+                    "{spikes} spikes {sep}/N draw {draw}"
+                );
+            }
+        }
+    }
+    // The draws above are the short ones (measured): the test would pass vacuously otherwise.
+    assert_eq!(short, 4);
 }

@@ -4,7 +4,7 @@
 
 use crate::show::num;
 use crate::{Failure, ReportFormat};
-use finespike::eval::campaign::{run, Campaign, ConditionSummary, Plan};
+use finespike::eval::campaign::{correlation_name, run, Campaign, ConditionSummary, Plan};
 use indicatif::{ProgressBar, ProgressStyle};
 use std::io::IsTerminal;
 use std::path::Path;
@@ -63,11 +63,23 @@ fn interval(v: Option<f64>, ci: Option<(f64, f64)>) -> String {
 fn text_row(s: &ConditionSummary) -> String {
     let c = &s.condition;
     let snr = c.snr_db.map_or("exact".to_string(), |v| format!("{v} dB"));
+    // An array is described by its sensors, snapshots and source relation; its resolution is 1/M.
+    let (record, unit) = match c.band.snapshots() {
+        Some(l) => (
+            format!(
+                "M={} L={} {}",
+                c.band.len(),
+                l,
+                correlation_name(c.correlation)
+            ),
+            "M",
+        ),
+        None => (format!("N={:<5}", c.band.len()), "N"),
+    };
     format!(
-        "{:>4}  {:<10} N={:<5} s={:<3} Δ={}/N ({}/fc)  {:<8} {:<16} gaps {}  success {}/{} [{:.2}, {:.2}]  resolved {}/{}  RMSE/√CRB {}  median {} s{}",
+        "{:>4}  {:<10} {record} s={:<3} Δ={}/{unit} ({}/fc)  {:<8} {:<16} gaps {}  success {}/{} [{:.2}, {:.2}]  resolved {}/{}  RMSE/√CRB {}  median {} s{}",
         c.index,
         s.method,
-        c.band.len(),
         c.spikes,
         num(c.separation_res),
         num(c.separation_fc),

@@ -61,6 +61,49 @@ fn plan_writes_tidy_records_and_a_summary() {
     assert_eq!(v.as_array().unwrap().len(), 8);
 }
 
+/// A snapshot plan (invented array scenes): a coherent pair seen by 12 sensors over 30 snapshots.
+const ARRAY_PLAN: &str = r#"{
+  "seed": 11, "draws": 2,
+  "grid": {"bands": [{"array": {"sensors": 12, "snapshots": 30}}], "separations": [2.5],
+           "spikes": [2], "snr_db": [null, 20.0], "correlations": ["coherent"], "spacing": 0.5},
+  "methods": [{"name": "esprit"}, {"name": "greedy"}]
+}"#;
+
+#[test]
+fn snapshot_plan_writes_array_rows_and_refuses_single_record_methods() {
+    let dir = tmpdir("campaign-array");
+    let plan = write(&dir, "plan.json", ARRAY_PLAN);
+    let csv = &dir.join("trials.csv");
+    let text = ok(&run(&["compare", "--plan", s(&plan), "--out", s(csv)]));
+    // 2 conditions × 2 draws × 2 methods.
+    assert!(
+        text.starts_with("8 trials (2 conditions × 2 draws × 2 methods)"),
+        "{text}"
+    );
+    let rows: Vec<&str> = text.lines().filter(|l| l.contains("success ")).collect();
+    assert_eq!(rows.len(), 4, "{text}");
+    for l in &rows {
+        assert!(l.contains("M=12 L=30 coherent"), "{l}");
+        assert!(l.contains("/M"), "{l}");
+    }
+    // ESPRIT on snapshots (spatial smoothing for the coherent pair): exact data exact.
+    let esprit_exact = rows
+        .iter()
+        .find(|l| l.contains("esprit") && l.contains(" exact "))
+        .unwrap();
+    assert!(esprit_exact.contains("success 2/2"), "{esprit_exact}");
+    // greedy takes single records only: every trial refused, counted in the summary.
+    for l in rows.iter().filter(|l| l.contains("greedy")) {
+        assert!(l.contains("refused 2"), "{l}");
+    }
+    let records = std::fs::read_to_string(csv).unwrap();
+    let header = records.lines().next().unwrap();
+    for col in ["snapshots", "correlation", "spacing", "relative_residual"] {
+        assert!(header.split(',').any(|h| h == col), "{header}");
+    }
+    assert!(records.lines().skip(1).all(|l| l.contains(",array,")));
+}
+
 #[test]
 fn plan_refusals_have_their_exit_codes() {
     let dir = tmpdir("campaign-bad");

@@ -3,6 +3,7 @@
 
 use crate::studies::all_methods;
 use crate::Mode;
+use finespike::eval::array_scene::SourceCorrelation;
 use finespike::eval::campaign::{draw_scene, AmplitudePattern, Band, Condition, MethodSpec};
 use finespike::registry::configure;
 use std::process::{Command, Stdio};
@@ -44,6 +45,8 @@ fn condition(n: usize) -> Condition {
         snr_db: Some(30.0),
         amplitudes: AmplitudePattern::RandomPhase,
         gaps: 0.0,
+        correlation: SourceCorrelation::Uncorrelated,
+        spacing: None,
     }
 }
 

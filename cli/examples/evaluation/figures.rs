@@ -1,8 +1,10 @@
 //! The SVG figures of the report (plotters, SVG backend).
 
 use crate::cost::Point;
-use crate::report::{crb_rows, resolution_rows, Results};
+use crate::numbers::{crb_rows, resolution_rows};
+use crate::report::Results;
 use crate::studies::{HEAT_METHODS, PATTERNS};
+use finespike::eval::campaign::Campaign;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 use std::path::Path;
@@ -147,9 +149,9 @@ fn bar(x: f64, lo: f64, hi: f64, c: RGBColor) -> PathElement<(f64, f64)> {
     PathElement::new(vec![(x, lo), (x, hi)], c.stroke_width(1))
 }
 
-/// RMSE/√CRB against SNR, log scale, chi-square 95 % bars.
-fn accuracy(r: &Results, path: &Path) -> Fallible {
-    let rows = crb_rows(&r.crb);
+/// RMSE/√CRB of campaign `c` against SNR, log scale, chi-square 95 % bars.
+fn accuracy(c: &Campaign, title: &str, path: &Path) -> Fallible {
+    let rows = crb_rows(c);
     let ymax = rows
         .iter()
         .filter_map(|row| Some(row.ci?.1.max(row.ratio?)))
@@ -161,10 +163,7 @@ fn accuracy(r: &Results, path: &Path) -> Fallible {
         let root = SVGBackend::with_string(&mut svg, (1000, 640)).into_drawing_area();
         root.fill(&WHITE)?;
         let mut chart = ChartBuilder::on(&root)
-            .caption(
-                "Position RMSE / sqrt(CRB), two lines 3/N apart, N = 33, sigma and order given",
-                ("sans-serif", 18).into_font().color(&INK),
-            )
+            .caption(title, ("sans-serif", 18).into_font().color(&INK))
             .margin(12)
             .x_label_area_size(44)
             .y_label_area_size(60)
@@ -172,7 +171,7 @@ fn accuracy(r: &Results, path: &Path) -> Fallible {
         chart
             .configure_mesh()
             .light_line_style(GRID)
-            .x_desc("SNR of the weaker line (dB)")
+            .x_desc("SNR of the weaker line or source (dB)")
             .y_desc("RMSE / sqrt(CRB)  (1 = efficient; dashed: 1 and 1.5)")
             .label_style(("sans-serif", 14))
             .axis_desc_style(("sans-serif", 14))
@@ -185,7 +184,7 @@ fn accuracy(r: &Results, path: &Path) -> Fallible {
                 RGBColor(120, 120, 120).stroke_width(1),
             ))?;
         }
-        let methods: Vec<String> = r.crb.plan.methods.iter().map(|m| m.name.clone()).collect();
+        let methods: Vec<String> = c.plan.methods.iter().map(|m| m.name.clone()).collect();
         for (k, m) in methods.iter().enumerate() {
             let c = colour(m);
             // Offset each method a little along x so the bars do not hide each other.
@@ -319,6 +318,10 @@ fn cost(points: &[Point], path: &Path) -> Fallible {
             ("sans-serif", 18).into_font().color(&INK),
         ))?;
         let (left, right) = rest.split_horizontally(550);
+        // Ticks at the measured sizes (a log axis left to itself labels only 100, 200, 300).
+        let mut sizes: Vec<f64> = points.iter().map(|p| p.n as f64).collect();
+        sizes.sort_by(f64::total_cmp);
+        sizes.dedup();
         let mut tc = ChartBuilder::on(&left)
             .caption(
                 "wall time of one estimate",
@@ -327,10 +330,14 @@ fn cost(points: &[Point], path: &Path) -> Fallible {
             .margin(10)
             .x_label_area_size(40)
             .y_label_area_size(60)
-            .build_cartesian_2d((24f64..nmax).log_scale(), (1e-5f64..tmax).log_scale())?;
+            .build_cartesian_2d(
+                (24f64..nmax).log_scale().with_key_points(sizes.clone()),
+                (1e-5f64..tmax).log_scale(),
+            )?;
         tc.configure_mesh()
             .light_line_style(GRID)
             .x_desc("N")
+            .x_label_formatter(&|x| format!("{x:.0}"))
             .y_desc("seconds")
             .label_style(("sans-serif", 13))
             .axis_desc_style(("sans-serif", 13))
@@ -343,10 +350,14 @@ fn cost(points: &[Point], path: &Path) -> Fallible {
             .margin(10)
             .x_label_area_size(40)
             .y_label_area_size(60)
-            .build_cartesian_2d((24f64..nmax).log_scale(), (0.01f64..mmax).log_scale())?;
+            .build_cartesian_2d(
+                (24f64..nmax).log_scale().with_key_points(sizes.clone()),
+                (0.01f64..mmax).log_scale(),
+            )?;
         mc.configure_mesh()
             .light_line_style(GRID)
             .x_desc("N")
+            .x_label_formatter(&|x| format!("{x:.0}"))
             .y_desc("MB (VmHWM - VmRSS before the estimate)")
             .label_style(("sans-serif", 13))
             .axis_desc_style(("sans-serif", 13))
@@ -386,7 +397,21 @@ fn cost(points: &[Point], path: &Path) -> Fallible {
 /// Write every figure into `docs`.
 pub fn all(r: &Results, docs: &Path) -> Fallible {
     heat_maps(r, &docs.join("evaluation-phase-transitions.svg"))?;
-    accuracy(r, &docs.join("evaluation-accuracy.svg"))?;
+    accuracy(
+        &r.crb,
+        "Position RMSE / sqrt(CRB), two lines 3/N apart, N = 33, sigma and order given",
+        &docs.join("evaluation-accuracy.svg"),
+    )?;
+    accuracy(
+        &r.arrays,
+        &format!(
+            "Array: RMSE / sqrt(conditional CRB), coherent pair {}/M apart, M = {}, L = {}",
+            crate::studies::ARRAY_SEPARATION,
+            crate::studies::ARRAY_SENSORS,
+            crate::studies::ARRAY_SNAPSHOTS
+        ),
+        &docs.join("evaluation-arrays.svg"),
+    )?;
     resolution(r, &docs.join("evaluation-resolution.svg"))?;
     cost(&r.cost, &docs.join("evaluation-cost.svg"))?;
     Ok(())

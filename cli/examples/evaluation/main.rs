@@ -13,9 +13,13 @@
 //! Internally the example re-runs itself as `evaluation cost-point METHOD N` for each point of the
 //! cost study: one process per point, so that its peak memory (VmHWM) belongs to that point alone.
 
+mod checks;
+mod choice;
 mod cost;
 mod figures;
+mod numbers;
 mod report;
+mod sections;
 mod studies;
 
 use std::path::PathBuf;
@@ -50,6 +54,10 @@ pub struct Mode {
     pub fg_draws: usize,
     /// Draws of the single-tone check.
     pub tone_draws: usize,
+    /// SNRs of the array study, dB.
+    pub array_snrs: Vec<f64>,
+    /// Draws per SNR of the array study.
+    pub array_draws: usize,
 }
 
 impl Mode {
@@ -68,25 +76,38 @@ impl Mode {
             cost_limit_s: 15.0,
             fg_draws: 3,
             tone_draws: 40,
+            array_snrs: (0..8).map(|i| -5.0 + 5.0 * i as f64).collect(),
+            array_draws: 15,
         }
     }
 
+    /// Sized to finish in under an hour on 2 idle cores (the quick run's "What this run cost"
+    /// projects it from measured CPU seconds per trial): every point of the accuracy and array
+    /// figures has 200 draws (chi-square 95 % interval of RMSE/√CRB about ±10 %), every resolution
+    /// rate 100 (Wilson half-width at most 0.1), the maps 20; the grids are cut to keep to the hour.
     fn full() -> Mode {
         Mode {
             name: "full",
             heat_separations: (0..12).map(|i| 0.3 + 0.2 * i as f64).collect(),
-            heat_counts: vec![2, 3, 4, 5, 6, 8, 10],
+            heat_counts: vec![2, 3, 4, 6, 8],
             heat_draws: 20,
             crb_snrs: (0..10).map(|i| -5.0 + 5.0 * i as f64).collect(),
-            crb_draws: 100,
-            res_separations: (1..=20).map(|i| 0.1 * i as f64).collect(),
-            res_snrs: vec![0.0, 10.0, 20.0, 30.0, 40.0],
+            crb_draws: 200,
+            res_separations: (1..=12).map(|i| 0.2 * i as f64).collect(),
+            res_snrs: vec![10.0, 20.0, 30.0],
             res_draws: 100,
             cost_sizes: vec![32, 64, 128, 256, 512, 1024, 2048],
-            cost_limit_s: 120.0,
+            cost_limit_s: 60.0,
             fg_draws: 20,
             tone_draws: 200,
+            array_snrs: (0..8).map(|i| -5.0 + 5.0 * i as f64).collect(),
+            array_draws: 200,
         }
+    }
+
+    /// The cost study's time cap per point in the full mode, seconds.
+    pub fn full_cost_limit() -> f64 {
+        Mode::full().cost_limit_s
     }
 }
 
@@ -112,15 +133,32 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
     let docs = docs_dir();
     std::fs::create_dir_all(&docs)?;
     let say = |what: &str| eprintln!("[{:>6.1} s] {what}", started.elapsed().as_secs_f64());
-    say("phase transitions");
-    let heat = studies::phase_transitions(&mode)?;
-    say("accuracy against the bound");
-    let crb = studies::accuracy(&mode)?;
-    say("resolution of two lines");
-    let res = studies::resolution(&mode)?;
-    say("checks of known behaviour");
-    let fg = studies::separation_check(&mode)?;
-    let tone = studies::single_tone(&mode)?;
+    // Each study: its campaign, and what it cost (wall time, trials, summed trial seconds) with the
+    // trial count the full mode would run, for the projection in the report.
+    let mut spent = Vec::new();
+    let full = Mode::full();
+    let mut study = |label: &'static str,
+                     make: fn(&Mode) -> finespike::eval::campaign::Plan|
+     -> Result<finespike::eval::campaign::Campaign, finespike::Error> {
+        say(label);
+        let t0 = Instant::now();
+        let cpu0 = report::cpu_seconds();
+        let c = studies::go(&make(&mode))?;
+        spent.push(report::Spent {
+            study: label,
+            wall_s: t0.elapsed().as_secs_f64(),
+            cpu_s: cpu0.zip(report::cpu_seconds()).map(|(a, b)| b - a),
+            trials: c.trials.len(),
+            full_trials: studies::trials(&make(&full)),
+        });
+        Ok(c)
+    };
+    let heat = study("phase transitions", studies::phase_transitions)?;
+    let crb = study("accuracy against the bound", studies::accuracy)?;
+    let res = study("resolution of two lines", studies::resolution)?;
+    let arrays = study("array snapshots", studies::arrays)?;
+    let fg = study("check: 1.26/fc", studies::separation_check)?;
+    let tone = study("check: single tone", studies::single_tone)?;
     say("cost against N (one process per point)");
     let cost = cost::study(&mode)?;
     say("figures and report");
@@ -132,7 +170,9 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         res,
         fg,
         tone,
+        arrays,
         cost,
+        spent,
     };
     figures::all(&results, &docs)?;
     let elapsed = started.elapsed().as_secs_f64();

@@ -26,6 +26,14 @@
 //! }
 //! ```
 //!
+//! Array snapshots are a band of their own, `{"array": {"sensors": 16, "snapshots": 20}}`, with
+//! two more grid lists that only arrays use: `"correlations"` (`"uncorrelated"`, `"coherent"`,
+//! `{"correlated": 0.9}`; default uncorrelated) and `"spacing"` (element spacing in wavelengths,
+//! default none). Their separations are in `1/M`, their gaps are missing sensors, their amplitudes
+//! are complex Gaussian per snapshot (only `random_phase` applies), and the methods run through
+//! [`crate::Estimator::estimate_snapshots`] ([`draw_array_scene`]); errors over `√CRB` use the
+//! conditional bound of the drawn amplitudes.
+//!
 //! Every combination of the grid's lists is a condition ([`Plan::conditions`]; a combination with
 //! more spikes than fit at that spacing is left out with a note). Separations are the spacing of
 //! neighbouring spikes in the record's resolution `1/N` (`"separation_unit": "record"`, the default)
@@ -70,10 +78,12 @@
 //! # Ok::<(), finespike::Error>(())
 //! ```
 
+mod array;
 mod plan;
 mod run;
 pub mod summary;
 
+pub use array::{correlation_name, draw_array_scene};
 pub use plan::{
     draw_scene, trial_seed, AmplitudePattern, Band, Condition, Grid, MethodSpec, NoiseGiven,
     OrderGiven, Plan, Scene, SeparationUnit, Solver,

@@ -3,6 +3,7 @@
 
 use crate::error::{Error, Result};
 use crate::estimator::NoiseLevel;
+use crate::eval::array_scene::SourceCorrelation;
 use crate::model::{forward, wrap, Domain, Measurements, Spike, Spikes};
 use crate::registry::{self, MethodOptions};
 use crate::tv::Backend;
@@ -14,7 +15,8 @@ use rand_distr::StandardNormal;
 use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
 
-/// The record of a condition: a Fourier band `−fc..=fc` (`N = 2fc + 1`) or `N` time samples.
+/// The record of a condition: a Fourier band `−fc..=fc` (`N = 2fc + 1`), `N` time samples, or the
+/// snapshots of a uniform line array.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case", deny_unknown_fields)]
 pub enum Band {
@@ -22,6 +24,16 @@ pub enum Band {
     Fc(usize),
     /// A time record of this many uniform samples (any `N ≥ 2`), written `{"samples": 64}`.
     Samples(usize),
+    /// `snapshots` snapshots of a uniform line array of `sensors` sensors, written
+    /// `{"array": {"sensors": 16, "snapshots": 20}}`; positions are spatial frequencies (cycles per
+    /// sensor), the resolution is `1/M`, and the methods run through
+    /// [`crate::Estimator::estimate_snapshots`] (the others are refused).
+    Array {
+        /// `M`, the sensors.
+        sensors: usize,
+        /// `L`, the snapshots.
+        snapshots: usize,
+    },
 }
 
 impl Band {
@@ -30,6 +42,15 @@ impl Band {
         match self {
             Band::Fc(fc) => 2 * fc + 1,
             Band::Samples(n) => n,
+            Band::Array { sensors, .. } => sensors,
+        }
+    }
+
+    /// The snapshots of an array band (`None` for a single record).
+    pub fn snapshots(self) -> Option<usize> {
+        match self {
+            Band::Array { snapshots, .. } => Some(snapshots),
+            _ => None,
         }
     }
 
@@ -44,10 +65,11 @@ impl Band {
     }
 
     /// `(kmin, kmax, domain)` of the stored band, as [`crate::Scenario`] lays them out.
-    fn layout(self) -> (i64, i64, Domain) {
+    fn layout(self) -> Option<(i64, i64, Domain)> {
         match self {
-            Band::Fc(fc) => (-(fc as i64), fc as i64, Domain::Fourier),
-            Band::Samples(n) => (-(n as i64 - 1), 0, Domain::Time),
+            Band::Fc(fc) => Some((-(fc as i64), fc as i64, Domain::Fourier)),
+            Band::Samples(n) => Some((-(n as i64 - 1), 0, Domain::Time)),
+            Band::Array { .. } => None,
         }
     }
 }
@@ -194,6 +216,9 @@ fn random_phase_only() -> Vec<AmplitudePattern> {
 fn no_gaps() -> Vec<f64> {
     vec![0.0]
 }
+fn uncorrelated_only() -> Vec<SourceCorrelation> {
+    vec![SourceCorrelation::Uncorrelated]
+}
 fn default_tolerance() -> f64 {
     1e-3
 }
@@ -222,6 +247,14 @@ pub struct Grid {
     /// the first and last index are always kept, so `N` is the same).
     #[serde(default = "no_gaps")]
     pub gaps: Vec<f64>,
+    /// For array bands: how the sources' amplitudes relate, e.g. `["uncorrelated", "coherent",
+    /// {"correlated": 0.9}]` (default uncorrelated only; single records ignore it).
+    #[serde(default = "uncorrelated_only")]
+    pub correlations: Vec<SourceCorrelation>,
+    /// For array bands: the element spacing in wavelengths, so that estimates carry angles (default
+    /// none; single records ignore it).
+    #[serde(default)]
+    pub spacing: Option<f64>,
 }
 
 /// A campaign plan (JSON, see the module docs for an example).
@@ -259,8 +292,12 @@ pub struct Condition {
     pub snr_db: Option<f64>,
     /// Amplitude pattern.
     pub amplitudes: AmplitudePattern,
-    /// Fraction of indices left out.
+    /// Fraction of indices left out (for an array: of its sensors).
     pub gaps: f64,
+    /// How the sources relate (arrays; `uncorrelated` for single records).
+    pub correlation: SourceCorrelation,
+    /// Element spacing in wavelengths (arrays, when given).
+    pub spacing: Option<f64>,
 }
 
 impl Condition {
@@ -320,6 +357,13 @@ impl Plan {
             return Err(bad("draws", 0, "at least one draw per condition is needed"));
         }
         for b in &g.bands {
+            if b.snapshots() == Some(0) {
+                return Err(bad(
+                    "bands",
+                    format!("{b:?}"),
+                    "an array needs at least one snapshot",
+                ));
+            }
             if b.len() < 3 {
                 return Err(bad(
                     "bands",
@@ -344,6 +388,33 @@ impl Plan {
         for &f in &g.gaps {
             if !(0.0..1.0).contains(&f) {
                 return Err(bad("gaps", f, "a fraction in [0, 1)"));
+            }
+        }
+        if g.correlations.is_empty() {
+            return Err(bad(
+                "correlations",
+                "[]",
+                "give at least one source relation (or leave the field out)",
+            ));
+        }
+        for c in &g.correlations {
+            if let SourceCorrelation::Correlated(r) = c {
+                if !(r.is_finite() && r.abs() < 1.0) {
+                    return Err(bad(
+                        "correlations",
+                        r,
+                        "a correlation coefficient lies in (-1, 1); use \"coherent\" for 1",
+                    ));
+                }
+            }
+        }
+        if let Some(d) = g.spacing {
+            if !(d.is_finite() && d > 0.0) {
+                return Err(bad(
+                    "spacing",
+                    d,
+                    "the element spacing in wavelengths must be finite and positive",
+                ));
             }
         }
         if !(self.exact_tolerance.is_finite() && self.exact_tolerance > 0.0) {
@@ -376,14 +447,29 @@ impl Plan {
     }
 
     /// Every condition of the grid that fits on the torus (`spikes × Δ ≤ 1`), in the order bands,
-    /// amplitudes, spikes, separations, SNR, gaps; and a note for each combination left out.
+    /// amplitudes, spikes, separations, source relations (arrays only), SNR, gaps; and a note for
+    /// each combination left out (including amplitude patterns other than random phase on arrays).
     pub fn conditions(&self) -> (Vec<Condition>, Vec<String>) {
         let g = &self.grid;
         let mut out = Vec::new();
         let mut skipped = Vec::new();
         for &band in &g.bands {
             let n = band.len() as f64;
+            let is_array = band.snapshots().is_some();
+            let correlations: &[SourceCorrelation] = if is_array {
+                &g.correlations
+            } else {
+                &[SourceCorrelation::Uncorrelated]
+            };
             for &amplitudes in &g.amplitudes {
+                if is_array && amplitudes != AmplitudePattern::RandomPhase {
+                    skipped.push(format!(
+                        "{} amplitudes do not apply to array snapshots (their amplitudes are \
+                         complex Gaussian per snapshot)",
+                        amplitudes.name()
+                    ));
+                    continue;
+                }
                 for &spikes in &g.spikes {
                     for &sep in &g.separations {
                         let separation_res = match g.separation_unit {
@@ -397,18 +483,22 @@ impl Plan {
                             ));
                             continue;
                         }
-                        for &snr_db in &g.snr_db {
-                            for &gaps in &g.gaps {
-                                out.push(Condition {
-                                    index: out.len(),
-                                    band,
-                                    separation_res,
-                                    separation_fc: separation_res * band.fc() / n,
-                                    spikes,
-                                    snr_db,
-                                    amplitudes,
-                                    gaps,
-                                });
+                        for &correlation in correlations {
+                            for &snr_db in &g.snr_db {
+                                for &gaps in &g.gaps {
+                                    out.push(Condition {
+                                        index: out.len(),
+                                        band,
+                                        separation_res,
+                                        separation_fc: separation_res * band.fc() / n,
+                                        spikes,
+                                        snr_db,
+                                        amplitudes,
+                                        gaps,
+                                        correlation,
+                                        spacing: if is_array { g.spacing } else { None },
+                                    });
+                                }
                             }
                         }
                     }
@@ -469,7 +559,13 @@ pub fn draw_scene(condition: &Condition, seed: u64) -> Result<Scene> {
         spikes.push(Spike::new(wrap(offset + j as f64 * d), a));
     }
     let truth = Spikes::new(spikes)?;
-    let (kmin, kmax, domain) = condition.band.layout();
+    let Some((kmin, kmax, domain)) = condition.band.layout() else {
+        return Err(bad(
+            "bands",
+            format!("{:?}", condition.band),
+            "an array condition: draw it with draw_array_scene",
+        ));
+    };
     let mut idx: Vec<i64> = (kmin..=kmax).collect();
     if condition.gaps > 0.0 {
         let n = idx.len();

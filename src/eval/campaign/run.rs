@@ -27,6 +27,20 @@ pub struct LineRecord {
     pub error_over_crb: Option<f64>,
 }
 
+impl LineRecord {
+    /// A true line not (yet) matched.
+    pub(super) fn missed(line: usize, true_position: f64) -> Self {
+        LineRecord {
+            line,
+            true_position,
+            found: false,
+            error_res: None,
+            crb_std_res: None,
+            error_over_crb: None,
+        }
+    }
+}
+
 /// One method on one scene.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct TrialRecord {
@@ -56,6 +70,9 @@ pub struct TrialRecord {
     pub missed: usize,
     /// Recovered lines without a true partner.
     pub spurious: usize,
+    /// `‖y − Fμ̂‖/‖y‖` of the returned spikes (empty for a refusal): on exact data, the precision
+    /// the method actually reached.
+    pub relative_residual: Option<f64>,
     /// Nothing missed, nothing spurious, and a usable status.
     pub complete: bool,
     /// `complete`, and on exact data every line within [`Plan::exact_tolerance`] of the truth.
@@ -111,7 +128,7 @@ pub fn run(plan: &Plan, progress: &(dyn Fn(usize, usize) + Sync)) -> Result<Camp
     })
 }
 
-fn refused(
+pub(super) fn refused(
     base: TrialRecord,
     message: String,
     truth: &[(usize, f64)],
@@ -123,14 +140,7 @@ fn refused(
         missed: truth.len(),
         lines: truth
             .iter()
-            .map(|&(line, p)| LineRecord {
-                line,
-                true_position: p,
-                found: false,
-                error_res: None,
-                crb_std_res: None,
-                error_over_crb: None,
-            })
+            .map(|&(line, p)| LineRecord::missed(line, p))
             .collect(),
         ..base
     }
@@ -158,11 +168,15 @@ fn one_trial(
         found: 0,
         missed: 0,
         spurious: 0,
+        relative_residual: None,
         complete: false,
         success: false,
         resolved: false,
         lines: Vec::new(),
     };
+    if condition.band.snapshots().is_some() {
+        return super::array::trial(plan, condition, base, m);
+    }
     let scene = match draw_scene(condition, seed) {
         Ok(s) => s,
         Err(e) => return refused(base, format!("scene: {e}"), &[], "scene error"),
@@ -200,14 +214,7 @@ fn one_trial(
     let fc = scene.data.fc();
     let mut lines: Vec<LineRecord> = truth
         .iter()
-        .map(|&(line, p)| LineRecord {
-            line,
-            true_position: p,
-            found: false,
-            error_res: None,
-            crb_std_res: None,
-            error_over_crb: None,
-        })
+        .map(|&(line, p)| LineRecord::missed(line, p))
         .collect();
     for (k, pair) in score.pairs.iter().enumerate() {
         let l = &mut lines[pair.truth_index];
@@ -221,19 +228,41 @@ fn one_trial(
             l.error_over_crb = (std > 0.0).then(|| err / std);
         }
     }
+    let relative_residual = Some(scene.data.residual_norm(&outcome.spikes) / scene.data.norm());
+    finish(
+        plan,
+        condition,
+        base,
+        status,
+        score,
+        lines,
+        relative_residual,
+    )
+}
+
+/// The trial's verdicts from its status, score and lines.
+pub(super) fn finish(
+    plan: &Plan,
+    condition: &Condition,
+    base: TrialRecord,
+    status: crate::estimator::Status,
+    score: &crate::eval::metrics::Score,
+    lines: Vec<LineRecord>,
+    relative_residual: Option<f64>,
+) -> TrialRecord {
     let complete = status.is_usable() && score.is_complete();
     let max_err = lines
         .iter()
         .filter_map(|l| l.error_res)
         .fold(0.0f64, |a, e| a.max(e.abs()));
-    let success = complete && (scene.sigma > 0.0 || max_err <= plan.exact_tolerance);
+    let success = complete && (base.sigma > 0.0 || max_err <= plan.exact_tolerance);
     let resolved = complete && max_err < condition.separation_res / 2.0;
     TrialRecord {
         status: status.to_string(),
-        error: outcome.error.clone(),
         found: score.found,
         missed: score.missed,
         spurious: score.spurious,
+        relative_residual,
         complete,
         success,
         resolved,
@@ -256,10 +285,16 @@ pub struct Row<'a> {
     pub seed: u64,
     /// Method label.
     pub method: &'a str,
-    /// `fourier` or `time`.
+    /// `fourier`, `time` or `array`.
     pub domain: &'static str,
-    /// `N`: indices spanned (record resolution `1/N`).
+    /// `N`: indices spanned (record resolution `1/N`); for an array, its sensors `M`.
     pub samples: usize,
+    /// Snapshots of an array (empty for a single record).
+    pub snapshots: Option<usize>,
+    /// Source relation of an array scene (`uncorrelated` for single records).
+    pub correlation: String,
+    /// Element spacing in wavelengths (arrays, when given).
+    pub spacing: Option<f64>,
     /// `fc = (N − 1)/2`.
     pub fc: f64,
     /// Fraction of indices left out.
@@ -286,6 +321,8 @@ pub struct Row<'a> {
     pub missed: usize,
     /// Spurious lines.
     pub spurious: usize,
+    /// See [`TrialRecord::relative_residual`].
+    pub relative_residual: Option<f64>,
     /// See [`TrialRecord::complete`].
     pub complete: bool,
     /// See [`TrialRecord::success`].
@@ -316,6 +353,7 @@ impl TrialRecord {
         let domain = match c.band {
             super::plan::Band::Fc(_) => "fourier",
             super::plan::Band::Samples(_) => "time",
+            super::plan::Band::Array { .. } => "array",
         };
         let amplitudes = AmplitudePattern::name(c.amplitudes);
         let row = |l: Option<&LineRecord>| Row {
@@ -326,6 +364,9 @@ impl TrialRecord {
             method: &self.method,
             domain,
             samples: c.band.len(),
+            snapshots: c.band.snapshots(),
+            correlation: super::array::correlation_name(c.correlation),
+            spacing: c.spacing,
             fc: c.band.fc(),
             gaps: c.gaps,
             spikes: c.spikes,
@@ -339,6 +380,7 @@ impl TrialRecord {
             found: self.found,
             missed: self.missed,
             spurious: self.spurious,
+            relative_residual: self.relative_residual,
             complete: self.complete,
             success: self.success,
             resolved: self.resolved,
