@@ -10,8 +10,9 @@
 //! interior point's position error (about the square root of its tolerance) down to rounding level.
 
 use crate::error::{check, Result};
-use crate::kernels::band::{dirichlet_sums, exp_sweep, parallel_pays, residual_on};
+use crate::kernels::band::{exp_sweep, residual_on};
 use crate::kernels::cg::{solve_spd, ITERATIVE_FROM};
+use crate::kernels::slide::{gauss_newton, PairSums};
 use crate::model::{atom, wrap, wrap_difference, Measurements, Spike, Spikes};
 use faer::linalg::solvers::Solve;
 use faer::{Mat, Side};
@@ -273,7 +274,8 @@ fn correlations(ks: &[i64], w: &[Complex64], pos: &[f64]) -> Vec<[Complex64; 2]>
 
 /// The refinement for large supports on a contiguous band without a trend: the same
 /// Levenberg–Marquardt iteration as [`refine`], with `JᵀJ` from the closed-form Dirichlet sums
-/// ([`dirichlet_sums`], `O(s²)` instead of the `O(|K|s²)` product of the `2|K| × 3s` Jacobian), `Jᵀr`
+/// ([`PairSums`] through [`gauss_newton`], `O(s²)` instead of the `O(|K|s²)` product of the
+/// `2|K| × 3s` Jacobian), `Jᵀr`
 /// and the residual by `O(|K|s)` recurrences, and the damped system solved by block-Jacobi
 /// preconditioned conjugate gradients ([`crate::kernels::cg`]) instead of a Cholesky factorisation.
 ///
@@ -329,36 +331,8 @@ fn refine_large(
         if cost <= floor(&amp) {
             break;
         }
-        let mut jtj = Mat::<f64>::zeros(p, p);
-        let row = |j: usize| -> Vec<[Complex64; 3]> {
-            (j..s)
-                .map(|l| dirichlet_sums(kmin, kmax, pos[j] - pos[l]))
-                .collect()
-        };
-        // A Dirichlet sum costs a few dozen multiply-adds.
-        let rows: Vec<Vec<[Complex64; 3]>> = if parallel_pays(16 * s * s) {
-            (0..s).into_par_iter().map(row).collect()
-        } else {
-            (0..s).map(row).collect()
-        };
-        for (j, row) in rows.iter().enumerate() {
-            for (l, &d) in (j..s).zip(row) {
-                for (jj, ll, dd) in [(j, l, d), (l, j, d.map(|v| v.conj()))] {
-                    let (aj, al) = (amp[jj], amp[ll]);
-                    jtj[(jj, ll)] = two_pi * two_pi * (aj.conj() * al * dd[2]).re;
-                    let ta = (i2pi * aj.conj() * dd[1]).re;
-                    let tb = -two_pi * (aj.conj() * dd[1]).re;
-                    jtj[(jj, s + ll)] = ta;
-                    jtj[(s + ll, jj)] = ta;
-                    jtj[(jj, 2 * s + ll)] = tb;
-                    jtj[(2 * s + ll, jj)] = tb;
-                    jtj[(s + jj, s + ll)] = dd[0].re;
-                    jtj[(s + jj, 2 * s + ll)] = -dd[0].im;
-                    jtj[(2 * s + jj, s + ll)] = dd[0].im;
-                    jtj[(2 * s + jj, 2 * s + ll)] = dd[0].re;
-                }
-            }
-        }
+        let pairs = PairSums::new(kmin, kmax, &pos);
+        let jtj = gauss_newton(&amp, |j, l| pairs.at(&pos, j, l), true);
         // Jᵀr: Re⟨i2πk a_j φ_j, r⟩ = Re(−i2π ā_j P_1(τ_j)), Re⟨−φ_j, r⟩ = −Re P_0(τ_j),
         // Re⟨−iφ_j, r⟩ = −Im P_0(τ_j).
         let pr = correlations(ks, &r, &pos);
