@@ -272,6 +272,14 @@ fn correlations(ks: &[i64], w: &[Complex64], pos: &[f64]) -> Vec<[Complex64; 2]>
         .collect()
 }
 
+/// Within this factor of the rounding floor of the residual, the large refinement stops after a step
+/// that gains less than [`NOISE_GAIN`] (relative): the floor is an estimate, and gains that small
+/// there are rounding noise.
+const NEAR_FLOOR: f64 = 4.0;
+
+/// The relative gain below which a step near the rounding floor ends the large refinement.
+const NOISE_GAIN: f64 = 1e-2;
+
 /// The refinement for large supports on a contiguous band without a trend: the same
 /// Levenberg–Marquardt iteration as [`refine`], with `JᵀJ` from the closed-form Dirichlet sums
 /// ([`PairSums`] through [`gauss_newton`], `O(s²)` instead of the `O(|K|s²)` product of the
@@ -284,9 +292,10 @@ fn correlations(ks: &[i64], w: &[Complex64], pos: &[f64]) -> Vec<[Complex64; 2]>
 /// `(JᵀJ)_{τ_j τ_l} = 4π² Re(ā_j a_l D_2)`, `(JᵀJ)_{τ_j, Re a_l} = Re(i2π ā_j D_1)`,
 /// `(JᵀJ)_{τ_j, Im a_l} = −2π Re(ā_j D_1)`, and the amplitude block the real form of `D_0`
 /// (`D_p` at `τ_j − τ_l`; the same entries as the slide's Gauss–Newton term, derived for this crate
-/// and checked against the dense path in the tests). Two stops the dense path does not need: at the
-/// rounding floor of the residual (exact data), and when a step falls below the rounding of every
-/// unknown; each saves a run of damped solves that cannot succeed.
+/// and checked against the dense path in the tests). Three stops the dense path does not need: at the
+/// rounding floor of the residual (exact data), within [`NEAR_FLOOR`] times it once a step gains
+/// less than [`NOISE_GAIN`], and when a step falls below the rounding of every unknown; each saves a
+/// run of damped solves that cannot succeed.
 fn refine_large(
     data: &Measurements,
     spikes: &Spikes,
@@ -383,7 +392,12 @@ fn refine_large(
                     lambda = (lambda / 10.0).max(1e-12);
                     improved = true;
                     accepted += 1;
-                    if rel < settings.rel_tolerance {
+                    // Near the rounding floor a gain below 1 % is rounding noise (measured on an
+                    // exact scene of 1024 spikes: after one step of 6.5 %, steps of 1e-4 went on to
+                    // the iteration limit, two damped solves each).
+                    if rel < settings.rel_tolerance
+                        || (cost <= NEAR_FLOOR * floor(&amp) && rel < NOISE_GAIN)
+                    {
                         improved = false;
                     }
                     break;
