@@ -72,7 +72,9 @@ impl Scan {
 /// Newton steps on `g = |q|²` from `t0`, never leaving `[t0 − h, t0 + h]`; returns the visited point
 /// with the largest `|q|` (a lower bound of the local maximum, equal to it once Newton has converged).
 /// `eval(t)` gives `(q, q', q'')` at `t`; `g' = 2 Re(q̄ q')`, `g'' = 2(|q'|² + Re(q̄ q''))`. Steps stop
-/// once they fall below `1e-15/width`, `width` being the largest frequency of `q` (after centring).
+/// once they fall below `1e-15/width`, `width` being the largest frequency of `q` (after centring),
+/// once a step would not move `t`, or once a step below `1e-9/width` is no shorter than the one
+/// before (rounding level: Newton's steps shrink quadratically until then, then wander by a few ulps).
 /// The one local-maximum polish of the crate: the scan below and
 /// [`crate::DualPolynomial::polish_maximum`] both use it.
 pub(crate) fn polish_maximum(
@@ -86,6 +88,7 @@ pub(crate) fn polish_maximum(
         position: t0,
         modulus: eval(t0)[0].norm(),
     };
+    let mut last_step = f64::INFINITY;
     for _ in 0..40 {
         let [q, d1, d2] = eval(t);
         let m = q.norm();
@@ -104,6 +107,11 @@ pub(crate) fn polish_maximum(
         if (t + step - t0).abs() > h {
             break;
         }
+        // Converged to rounding level (see above): further evaluations only revisit the same points.
+        if t + step == t || (step.abs() >= last_step && step.abs() * width.max(1.0) < 1e-9) {
+            break;
+        }
+        last_step = step.abs();
         t += step;
         if step.abs() * width.max(1.0) < 1e-15 {
             let m = eval(t)[0].norm();

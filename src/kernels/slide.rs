@@ -28,12 +28,13 @@
 //!
 //! (derived for this crate; checked against finite differences in the tests below).
 
-use crate::kernels::band::Model;
+use crate::kernels::band::{dirichlet_sums, parallel_pays, Model};
 use crate::kernels::cg::{solve_spd, ITERATIVE_FROM};
 use faer::linalg::matmul::matmul;
 use faer::linalg::solvers::Solve;
-use faer::{Accum, Mat, MatRef, Par, Side};
+use faer::{Accum, ColMut, Mat, MatMut, MatRef, Par, Side};
 use num_complex::Complex64;
+use rayon::prelude::*;
 use std::f64::consts::PI;
 
 /// A spike train in the centred, normalised frame of a [`Model`].
@@ -115,29 +116,54 @@ pub(crate) struct Local {
     pub f: f64,
     /// Gradient over `(τ, Re a, Im a)`.
     pub grad: Vec<f64>,
-    /// Hessian (exact) over the same variables.
+    /// Hessian (exact) over the same variables (over the amplitudes alone, `2s × 2s`, when the
+    /// positions are frozen: see [`local`]).
     pub hess: Mat<f64>,
     /// `diag(JᵀJ)`, the damping scale.
     pub scale: Vec<f64>,
 }
 
-/// `f(τ, a) = ½‖y − Φa‖² + λΣ|a_j|`.
+/// `f(τ, a) = ½‖y − Φa‖² + λΣ|a_j|` (the slide itself takes it from the residual it keeps).
+#[cfg(test)]
 pub(crate) fn objective(model: &Model, point: &Point, lambda: f64) -> f64 {
-    let r = model.residual_at(&point.tau, &point.amp);
+    objective_of(&model.residual_at(&point.tau, &point.amp), point, lambda)
+}
+
+/// `f` from the residual `r = y − Φa` of `point`.
+fn objective_of(r: &[Complex64], point: &Point, lambda: f64) -> f64 {
     0.5 * r.iter().map(|z| z.norm_sqr()).sum::<f64>() + lambda * point.l1()
 }
 
 /// Objective, gradient and exact Hessian at `point` (see the module docs for the formulas). With
-/// `positions` false only the amplitude entries are filled (the others are zero).
+/// `positions` false only the amplitude entries are filled: the gradient and scale are still over all
+/// `3s` variables (the position entries zero), but the Hessian is the trailing `2s × 2s` amplitude
+/// block alone.
+///
+/// The Hessian is filled column by column (three columns per spike, from one column of kernel sums
+/// `D_p(τ_j − τ_l)`, `j = 1..s`), in parallel over the spikes for large supports: every entry is
+/// computed by one thread, so the result does not depend on the thread count.
 pub(crate) fn local(model: &Model, point: &Point, lambda: f64, positions: bool) -> Local {
+    local_with(model, point, lambda, positions, None)
+}
+
+/// [`local`], reusing the residual `y − Φa` of `point` when the caller has it (the slide has, from
+/// the objective value of the step it accepts); only the streamed path takes it.
+fn local_with(
+    model: &Model,
+    point: &Point,
+    lambda: f64,
+    positions: bool,
+    residual: Option<Vec<Complex64>>,
+) -> Local {
     let s = point.len();
     let orders = if positions { 3 } else { 1 };
     // Large supports on a contiguous band never form the |K| × s atom matrix: the residual and the
-    // correlations are streamed and the Gram sums taken in closed form.
-    let (r, [p0, p1, p2], g) = if model.grams_closed_form(s) {
-        let r = model.residual_at(&point.tau, &point.amp);
+    // correlations are streamed and the kernel sums taken in closed form.
+    let closed = model.grams_closed_form(s);
+    let (r, [p0, p1, p2], g) = if closed {
+        let r = residual.unwrap_or_else(|| model.residual_at(&point.tau, &point.amp));
         let p = model.correlate_at(&point.tau, &r);
-        (r, p, model.closed_grams(&point.tau, orders))
+        (r, p, Vec::new())
     } else {
         let e = model.atoms(&point.tau);
         let r = model.residual(&e, &point.amp);
@@ -147,11 +173,22 @@ pub(crate) fn local(model: &Model, point: &Point, lambda: f64, positions: bool) 
     };
     let f = 0.5 * r.iter().map(|z| z.norm_sqr()).sum::<f64>() + lambda * point.l1();
     let a = &point.amp;
-    let n = 3 * s;
-    let mut grad = vec![0.0; n];
-    let mut hess = Mat::<f64>::zeros(n, n);
+    let tau = &point.tau;
+    let zero = Complex64::new(0.0, 0.0);
+    let pairs = closed.then(|| PairSums::new(model.ks[0], model.ks[model.len() - 1], tau));
+    // [D_0, D_1, D_2](τ_j − τ_l); from the Gram sums, (G_p)_{jl} = D_p(τ_l − τ_j) = conj(D_p(τ_j − τ_l)).
+    let kernel = |j: usize, l: usize| -> [Complex64; 3] {
+        if let Some(pairs) = &pairs {
+            pairs.at(tau, j, l)
+        } else {
+            let d = |p: usize| g.get(p).map_or(zero, |m| m[(j, l)].conj());
+            [d(0), d(1), d(2)]
+        }
+    };
     let two_pi = 2.0 * PI;
-    let i2pi = Complex64::new(0.0, two_pi);
+    let off = if positions { s } else { 0 };
+    let mut hess = gauss_newton(a, kernel, positions);
+    let mut grad = vec![0.0; 3 * s];
     for j in 0..s {
         let modulus = a[j].norm();
         let unit = if modulus > 0.0 {
@@ -161,26 +198,6 @@ pub(crate) fn local(model: &Model, point: &Point, lambda: f64, positions: bool) 
         };
         grad[s + j] = -p0[j].re + lambda * unit.re;
         grad[2 * s + j] = -p0[j].im + lambda * unit.im;
-        for l in 0..s {
-            // D_p(τ_j − τ_l) = conj((G_p)_{jl}).
-            let d0 = g[0][(j, l)].conj();
-            hess[(s + j, s + l)] += d0.re;
-            hess[(s + j, 2 * s + l)] += -d0.im;
-            hess[(2 * s + j, s + l)] += d0.im;
-            hess[(2 * s + j, 2 * s + l)] += d0.re;
-            if !positions {
-                continue;
-            }
-            let d1 = g[1][(j, l)].conj();
-            let d2 = g[2][(j, l)].conj();
-            hess[(j, l)] += two_pi * two_pi * (a[j].conj() * a[l] * d2).re;
-            let ta = (i2pi * a[j].conj() * d1).re;
-            let tb = -two_pi * (a[j].conj() * d1).re;
-            hess[(j, s + l)] += ta;
-            hess[(s + l, j)] += ta;
-            hess[(j, 2 * s + l)] += tb;
-            hess[(2 * s + l, j)] += tb;
-        }
         if positions {
             grad[j] = -(a[j] * p1[j].conj()).re;
             // Residual (second-order) terms, diagonal blocks only.
@@ -193,17 +210,19 @@ pub(crate) fn local(model: &Model, point: &Point, lambda: f64, positions: bool) 
         // Curvature of λ|a|: (λ/|a|)(I − â âᵀ).
         if modulus > 0.0 && lambda > 0.0 {
             let c = lambda / modulus;
-            hess[(s + j, s + j)] += c * (1.0 - unit.re * unit.re);
-            hess[(2 * s + j, 2 * s + j)] += c * (1.0 - unit.im * unit.im);
-            hess[(s + j, 2 * s + j)] -= c * unit.re * unit.im;
-            hess[(2 * s + j, s + j)] -= c * unit.re * unit.im;
+            let (re, im) = (off + j, off + s + j);
+            hess[(re, re)] += c * (1.0 - unit.re * unit.re);
+            hess[(im, im)] += c * (1.0 - unit.im * unit.im);
+            hess[(re, im)] -= c * unit.re * unit.im;
+            hess[(im, re)] -= c * unit.re * unit.im;
         }
     }
     let m = model.len() as f64;
-    let mut scale = vec![m; n];
+    let mut scale = vec![m; 3 * s];
     if positions {
         for j in 0..s {
-            scale[j] = (two_pi * two_pi * a[j].norm_sqr() * g[2][(j, j)].re).max(1e-300);
+            let d2 = kernel(j, j)[2];
+            scale[j] = (two_pi * two_pi * a[j].norm_sqr() * d2.re).max(1e-300);
         }
     }
     Local {
@@ -212,6 +231,172 @@ pub(crate) fn local(model: &Model, point: &Point, lambda: f64, positions: bool) 
         hess,
         scale,
     }
+}
+
+/// Kernel sums `[D_0, D_1, D_2](τ_j − τ_l)` of a contiguous band `a..=b` for every pair of a support,
+/// without trigonometric functions per pair: the closed form of [`dirichlet_sums`] needs only
+/// `exp(iπt)`, `exp(iπnt)` and `exp(iπ(a + b)t)` at `t = τ_j − τ_l` (`n = b − a + 1`), and each is the
+/// product of one per-spike phasor and the conjugate of another (`exp(iπm(τ_j − τ_l)) =
+/// exp(iπmτ_j) exp(−iπmτ_l)`), so the `s²` pairs cost a few complex products each instead of four
+/// sines and cosines. The formula holds for every non-integer `t` (the signs of the half-period
+/// reductions cancel: `(−1)^{(n−1+a+b)m} = (−1)^{2bm} = 1` for `t → t + m`). Pairs closer than the
+/// closed form's accuracy limit, and `t = 0`, go to [`dirichlet_sums`] itself.
+///
+/// Accuracy: the phase `nτ_j` carries a rounding of about `nε`, so entries carry a relative error of
+/// about `N·ε_mach` (1e-12 at `N = 8193`) against about `N|t|ε_mach` for [`dirichlet_sums`]. Only
+/// the Newton matrices ([`gauss_newton`], for the slide and the refinement) use them: the gradient
+/// and residual stay exact, and an inexact Newton step with a small relative error converges like
+/// Newton's method (Nocedal & Wright 2006, *Numerical Optimization*, Thm. 7.2).
+pub(crate) struct PairSums {
+    a: i64,
+    b: i64,
+    /// `exp(iπτ_j)`, `exp(iπnτ_j)`, `exp(iπ(a + b)τ_j)` per spike.
+    phasors: Vec<[Complex64; 3]>,
+}
+
+/// `exp(iπmτ)`, the phase `mτ` reduced modulo 2 first.
+fn half_turns(m: i64, tau: f64) -> Complex64 {
+    let ph = m as f64 * tau;
+    Complex64::from_polar(1.0, PI * (ph - 2.0 * (0.5 * ph).round()))
+}
+
+impl PairSums {
+    /// The phasors of `tau` on the contiguous band `a..=b`.
+    pub(crate) fn new(a: i64, b: i64, tau: &[f64]) -> Self {
+        let n = b - a + 1;
+        let phasors = tau
+            .iter()
+            .map(|&t| [half_turns(1, t), half_turns(n, t), half_turns(a + b, t)])
+            .collect();
+        PairSums { a, b, phasors }
+    }
+
+    /// `[D_0, D_1, D_2](τ_j − τ_l)`, `tau` the positions the phasors were made from.
+    pub(crate) fn at(&self, tau: &[f64], j: usize, l: usize) -> [Complex64; 3] {
+        let t = tau[j] - tau[l];
+        let n = (self.b - self.a + 1) as f64;
+        let tr = t - t.round();
+        // The same switch to direct sums as dirichlet_sums (and t = 0 exactly).
+        if (n * PI * tr).abs() < 0.1 {
+            return dirichlet_sums(self.a, self.b, t);
+        }
+        let (pj, pl) = (&self.phasors[j], &self.phasors[l]);
+        let e1 = pj[0] * pl[0].conj();
+        let en = pj[1] * pl[1].conj();
+        let w = pj[2] * pl[2].conj();
+        let (su, cu) = (e1.im, e1.re);
+        let (f, fc) = (en.im, en.re);
+        let c = 0.5 * (self.a + self.b) as f64;
+        // As in dirichlet_sums: S = sin(nu)/sin(u), dS/du, d²S/du², d/dx = ½ d/du.
+        let s0 = f / su;
+        let s1u = (n * fc - s0 * cu) / su;
+        let s2u = (1.0 - n * n) * s0 - 2.0 * (cu / su) * s1u;
+        let (s1, s2) = (0.5 * s1u, 0.25 * s2u);
+        let i = Complex64::new(0.0, 1.0);
+        [
+            w * s0,
+            w * (c * s0 - i * s1),
+            w * (c * c * s0 - 2.0 * i * c * s1 - s2),
+        ]
+    }
+}
+
+/// The Gauss–Newton matrix `JᵀJ` of `s` spikes with amplitudes `amp` over `(τ, Re a, Im a)` (module
+/// docs), from `kernel(j, l) = [D_0, D_1, D_2](τ_j − τ_l)`; over the amplitudes alone (`2s × 2s`) when
+/// `positions` is false. Filled column by column (three columns per spike from one column of kernel
+/// sums), in parallel over the spikes for large supports: every entry is computed by one thread, so
+/// the result does not depend on the thread count. The refinement ([`crate::kernels::refine`]) uses it
+/// on the data's own band.
+pub(crate) fn gauss_newton(
+    a: &[Complex64],
+    kernel: impl Fn(usize, usize) -> [Complex64; 3] + Sync,
+    positions: bool,
+) -> Mat<f64> {
+    let s = a.len();
+    let two_pi = 2.0 * PI;
+    let i2pi = Complex64::new(0.0, two_pi);
+    // Columns of spike l: τ_l (positions only), Re a_l, Im a_l; rows j, s + j, 2s + j likewise (the
+    // amplitude-only Hessian drops the τ rows and columns: offset 0 instead of s).
+    let off = if positions { s } else { 0 };
+    let n = off + 2 * s;
+    let mut hess = Mat::<f64>::zeros(n, n);
+    let fill = |l: usize, kcol: &mut Vec<[Complex64; 3]>, cols: [Option<&mut [f64]>; 3]| {
+        kcol.clear();
+        kcol.extend((0..s).map(|j| kernel(j, l)));
+        let [ct, cre, cim] = cols;
+        if let Some(ct) = ct {
+            for (j, d) in kcol.iter().enumerate() {
+                // Row τ_j: 4π² Re(conj(a_j) a_l D_2); rows Re/Im a_j: the transposed τ–amplitude
+                // entries, with D_1(τ_l − τ_j) = conj(D_1(τ_j − τ_l)).
+                let d1t = d[1].conj();
+                ct[j] = two_pi * two_pi * (a[j].conj() * a[l] * d[2]).re;
+                ct[s + j] = (i2pi * a[l].conj() * d1t).re;
+                ct[2 * s + j] = -two_pi * (a[l].conj() * d1t).re;
+            }
+        }
+        if let Some(cre) = cre {
+            for (j, d) in kcol.iter().enumerate() {
+                if positions {
+                    cre[j] = (i2pi * a[j].conj() * d[1]).re;
+                }
+                cre[off + j] = d[0].re;
+                cre[off + s + j] = d[0].im;
+            }
+        }
+        if let Some(cim) = cim {
+            for (j, d) in kcol.iter().enumerate() {
+                if positions {
+                    cim[j] = -two_pi * (a[j].conj() * d[1]).re;
+                }
+                cim[off + j] = -d[0].im;
+                cim[off + s + j] = d[0].re;
+            }
+        }
+    };
+    fn as_slice(c: MatMut<'_, f64>) -> Option<&mut [f64]> {
+        col(c.col_mut(0))
+    }
+    fn col(c: ColMut<'_, f64>) -> Option<&mut [f64]> {
+        c.try_as_col_major_mut().map(|c| c.as_slice_mut())
+    }
+    {
+        let (ht, hamp) = hess.as_mut().split_at_col_mut(off);
+        let (hre, him) = hamp.split_at_col_mut(s);
+        // A kernel sum costs a few dozen multiply-adds.
+        if parallel_pays(16 * s * s) {
+            let re = hre.par_col_chunks_mut(1);
+            let im = him.par_col_chunks_mut(1);
+            if positions {
+                ht.par_col_chunks_mut(1)
+                    .zip(re)
+                    .zip(im)
+                    .enumerate()
+                    .for_each_init(Vec::new, |kcol, (l, ((t, re), im))| {
+                        fill(l, kcol, [as_slice(t), as_slice(re), as_slice(im)])
+                    });
+            } else {
+                re.zip(im)
+                    .enumerate()
+                    .for_each_init(Vec::new, |kcol, (l, (re, im))| {
+                        fill(l, kcol, [None, as_slice(re), as_slice(im)])
+                    });
+            }
+        } else {
+            let mut kcol = Vec::with_capacity(s);
+            let (mut t_it, mut re_it, mut im_it) =
+                (ht.col_iter_mut(), hre.col_iter_mut(), him.col_iter_mut());
+            for l in 0..s {
+                let t = if positions {
+                    t_it.next().and_then(col)
+                } else {
+                    None
+                };
+                let (re, im) = (re_it.next().and_then(col), im_it.next().and_then(col));
+                fill(l, &mut kcol, [t, re, im]);
+            }
+        }
+    }
+    hess
 }
 
 /// The damped Newton step `(H + μ diag(d)) δ = −g`: Cholesky (faer) for small systems, block-Jacobi
@@ -303,11 +488,13 @@ pub(crate) fn slide(
     let mut steps = 0;
     let positions = !freeze_positions;
     let mut cur = local(model, point, lambda, positions);
+    // `local` streams the residual for such supports and can take the one of an accepted step.
+    let streamed = model.grams_closed_form(s);
     let mut converged = false;
     'outer: while steps < max_steps {
         let g: Vec<f64> = vars.iter().map(|&v| cur.grad[v]).collect();
-        // The variables are the trailing `n` of `(τ, Re a, Im a)`: a view, no copy.
-        let h = cur.hess.as_ref().submatrix(3 * s - n, 3 * s - n, n, n);
+        // The variables are the trailing `n` of `(τ, Re a, Im a)`, which `local` assembled alone.
+        let h = cur.hess.as_ref();
         let d: Vec<f64> = vars.iter().map(|&v| cur.scale[v]).collect();
         let mut accepted = false;
         for _ in 0..60 {
@@ -328,7 +515,8 @@ pub(crate) fn slide(
                     _ => trial.amp[j].im += step[i],
                 }
             }
-            let f_trial = objective(model, &trial, lambda);
+            let r_trial = model.residual_at(&trial.tau, &trial.amp);
+            let f_trial = objective_of(&r_trial, &trial, lambda);
             let rounding = 1e-15 * cur.f.abs().max(f64::MIN_POSITIVE);
             if pred > 0.0 && f_trial.is_finite() && cur.f - f_trial >= 1e-4 * pred {
                 let rho = (cur.f - f_trial) / pred;
@@ -345,7 +533,7 @@ pub(crate) fn slide(
                     }
                 });
                 *point = trial;
-                cur = local(model, point, lambda, positions);
+                cur = local_with(model, point, lambda, positions, streamed.then_some(r_trial));
                 steps += 1;
                 accepted = true;
                 if small {
@@ -386,148 +574,4 @@ pub(crate) fn slide(
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::model::{forward, Domain, Measurements, Spikes};
-
-    fn model(noise: f64) -> Model {
-        let truth = Spikes::from_parts(
-            &[0.2, 0.31, 0.7],
-            &[
-                Complex64::new(1.0, 0.3),
-                Complex64::new(-0.5, 0.8),
-                Complex64::new(0.1, -1.1),
-            ],
-        )
-        .unwrap();
-        let idx: Vec<i64> = (-10..=10).collect();
-        let mut y = forward(&truth, &idx);
-        for (i, v) in y.iter_mut().enumerate() {
-            *v += Complex64::new((i as f64 * 1.7).sin(), (i as f64 * 2.3).cos()) * noise;
-        }
-        let d = Measurements::in_band(-10, 10, &idx, &y, Domain::Fourier).unwrap();
-        Model::new(&d, 8).unwrap()
-    }
-
-    fn point() -> Point {
-        Point {
-            tau: vec![0.203, 0.305, 0.69],
-            amp: vec![
-                Complex64::new(0.2, 0.05),
-                Complex64::new(-0.1, 0.15),
-                Complex64::new(0.03, -0.2),
-            ],
-        }
-    }
-
-    fn perturb(p: &Point, v: usize, h: f64) -> Point {
-        let s = p.len();
-        let mut q = p.clone();
-        match v / s {
-            0 => q.tau[v % s] += h,
-            1 => q.amp[v % s].re += h,
-            _ => q.amp[v % s].im += h,
-        }
-        q
-    }
-
-    /// Gradient and Hessian against central differences (step 1e-6: truncation ~h², rounding ~ε/h).
-    #[test]
-    fn derivatives_match_finite_differences() {
-        let m = model(0.05);
-        let p = point();
-        let lambda = 0.02;
-        let loc = local(&m, &p, lambda, true);
-        let h = 1e-6;
-        for v in 0..9 {
-            let fp = objective(&m, &perturb(&p, v, h), lambda);
-            let fm = objective(&m, &perturb(&p, v, -h), lambda);
-            let fd = (fp - fm) / (2.0 * h);
-            assert!(
-                (fd - loc.grad[v]).abs() <= 1e-6 * (1.0 + loc.grad[v].abs()),
-                "grad {v}: {fd} vs {}",
-                loc.grad[v]
-            );
-            let gp = local(&m, &perturb(&p, v, h), lambda, true).grad;
-            let gm = local(&m, &perturb(&p, v, -h), lambda, true).grad;
-            for u in 0..9 {
-                let fd = (gp[u] - gm[u]) / (2.0 * h);
-                let an = loc.hess[(u, v)];
-                assert!(
-                    (fd - an).abs() <= 1e-5 * (1.0 + an.abs()),
-                    "hess ({u},{v}): {fd} vs {an}"
-                );
-            }
-        }
-    }
-
-    /// The iterative Newton solve (conjugate gradients from ITERATIVE_FROM unknowns on): with λ = 0
-    /// and exact data a slide of 110 spikes from a perturbed start recovers the generating spikes to
-    /// rounding level.
-    #[test]
-    fn iterative_slide_recovers_exact_spikes() {
-        let s = 110;
-        let fc = 250i64;
-        let pos: Vec<f64> = (0..s)
-            .map(|j| (j as f64 + 0.1 * (j as f64).sin()) / s as f64 + 0.01)
-            .collect();
-        let amp: Vec<Complex64> = (0..s)
-            .map(|j| Complex64::from_polar(1.0 + 0.5 * (1.3 * j as f64).sin(), 2.1 * j as f64))
-            .collect();
-        let truth = Spikes::from_parts(&pos, &amp).unwrap();
-        let idx: Vec<i64> = (-fc..=fc).collect();
-        let d =
-            Measurements::in_band(-fc, fc, &idx, &forward(&truth, &idx), Domain::Fourier).unwrap();
-        let m = Model::new(&d, 8).unwrap();
-        assert!(3 * s >= ITERATIVE_FROM);
-        let mut p = Point {
-            tau: pos
-                .iter()
-                .enumerate()
-                .map(|(j, t)| t + 2e-5 * (j as f64).cos())
-                .collect(),
-            amp: pos
-                .iter()
-                .zip(&amp)
-                .map(|(&t, &a)| m.to_centred(t, a) * Complex64::new(1.01, -0.005))
-                .collect(),
-        };
-        let out = slide(&m, &mut p, 0.0, false, 200);
-        assert!(out.converged);
-        assert!(objective(&m, &p, 0.0) < 1e-26);
-        for (t, want) in p.tau.iter().zip(&pos) {
-            assert!((t - want).abs() < 1e-12);
-        }
-    }
-
-    /// With λ = 0 and exact data, the slide recovers the generating spikes to rounding level.
-    #[test]
-    fn least_squares_slide_recovers_exact_spikes() {
-        let m = model(0.0);
-        let mut p = point();
-        let out = slide(&m, &mut p, 0.0, false, 200);
-        assert!(out.converged);
-        let f = objective(&m, &p, 0.0);
-        assert!(f < 1e-28, "f = {f}");
-        for (t, want) in p.tau.iter().zip([0.2, 0.31, 0.7]) {
-            assert!((t - want).abs() < 1e-13);
-        }
-    }
-
-    /// At a converged slide with λ > 0 the stationarity conditions hold: η(τ_j) = a_j/|a_j| with
-    /// η = F*(y − Φa)/λ (Duval & Peyré 2015, FoCM 15(5), Prop. 3, restricted to the support).
-    #[test]
-    fn penalised_slide_reaches_stationarity() {
-        let m = model(0.02);
-        let mut p = point();
-        let lambda = 0.01;
-        let out = slide(&m, &mut p, lambda, false, 200);
-        assert!(out.converged);
-        let e = m.atoms(&p.tau);
-        let r = m.residual(&e, &p.amp);
-        let [p0, _, _] = m.correlate(&e, &r);
-        for (v, a) in p0.iter().zip(&p.amp) {
-            assert!((v / lambda - a / a.norm()).norm() < 1e-9);
-        }
-    }
-}
+mod tests;

@@ -12,7 +12,7 @@
 use crate::kernels::band::Model;
 use crate::kernels::cg::{solve_spd, ITERATIVE_FROM};
 use faer::linalg::solvers::Solve;
-use faer::{Mat, Side};
+use faer::{c64, Mat, Side};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -67,7 +67,14 @@ fn interpolate(
     if s == 0 || per * s > 2 * m {
         return None;
     }
-    let e = model.atoms(tau);
+    // Large supports on a contiguous band: correlations streamed and Gram sums in closed form, never
+    // the |K| × s atom matrix E (the same values, computed in the same order).
+    let closed = model.grams_closed_form(s);
+    let e = if closed {
+        Mat::<c64>::zeros(0, 0)
+    } else {
+        model.atoms(tau)
+    };
     let l = model.half_width.max(1.0);
     let i = Complex64::new(0.0, 1.0);
     // Representers, column u = per·j + r:
@@ -97,7 +104,11 @@ fn interpolate(
         })
         .collect();
     // ℓ_u(c₀) = Re(conj(α_u) L^{−p_u} Σ_k k^{p_u} E_kj c₀_k); `correlate` gives Σ_k (i2πk)^p E_kj c₀_k.
-    let [p0, p1, _] = model.correlate(&e, c0);
+    let [p0, p1, _] = if closed {
+        model.correlate_at(tau, c0)
+    } else {
+        model.correlate(&e, c0)
+    };
     let d = Complex64::new(0.0, 2.0 * PI);
     let current: Vec<f64> = (0..n)
         .map(|u| {
@@ -110,7 +121,11 @@ fn interpolate(
             (a.conj() * sum).re
         })
         .collect();
-    let g = model.grams(tau, &e, 3);
+    let g = if closed {
+        model.closed_grams(tau, 3)
+    } else {
+        model.grams(tau, &e, 3)
+    };
     let real = Mat::<f64>::from_fn(n, n, |u, v| {
         let ((au, pu), (av, pv)) = (alpha(u), alpha(v));
         let pp = (pu + pv) as usize;
@@ -140,9 +155,14 @@ fn interpolate(
         }
     }
     let mut c: Vec<Complex64> = c0.to_vec();
+    let mut col = vec![Complex64::new(0.0, 0.0); if closed { m } else { 0 }];
     for j in 0..s {
+        if closed {
+            model.exp_column(tau[j], &mut col);
+        }
         for (k, ck) in c.iter_mut().enumerate() {
-            *ck += e[(k, j)].conj() * (beta[j] + gamma[j] * model.kf[k]);
+            let ekj = if closed { col[k] } else { e[(k, j)] };
+            *ck += ekj.conj() * (beta[j] + gamma[j] * model.kf[k]);
         }
     }
     if c.iter().any(|v| !(v.re.is_finite() && v.im.is_finite())) {

@@ -45,10 +45,16 @@ pub(crate) fn lasso(model: &Model, point: &mut Point, lambda: f64) -> bool {
     if lambda == 0.0 {
         return on_band(model, point);
     }
-    let e = model.atoms(&point.tau);
-    // b_j = Σ_k y_k exp(i2πkτ_j) and G_{jl} = D_0(τ_j − τ_l) = conj((EᴴE)_{jl}).
-    let [b, _, _] = model.correlate(&e, &model.y);
-    let g = model.grams(&point.tau, &e, 1);
+    // b_j = Σ_k y_k exp(i2πkτ_j) and G_{jl} = D_0(τ_j − τ_l) = conj((EᴴE)_{jl}); for large supports
+    // on a contiguous band streamed and in closed form, without the |K| × s atom matrix E.
+    let (b, g) = if model.grams_closed_form(s) {
+        let [b, _, _] = model.correlate_at(&point.tau, &model.y);
+        (b, model.closed_grams(&point.tau, 1))
+    } else {
+        let e = model.atoms(&point.tau);
+        let [b, _, _] = model.correlate(&e, &model.y);
+        (b, model.grams(&point.tau, &e, 1))
+    };
     let gram = |j: usize, l: usize| g[0][(j, l)].conj();
     let diag = model.len() as f64;
     for _round in 0..8 {

@@ -148,8 +148,12 @@ fn rounding_floor(model: &Model, point: &Point, lambda: f64) -> f64 {
 
 /// Dual coefficients `c = (y − Φa)/λ` on `K`.
 fn dual_of(model: &Model, point: &Point, lambda: f64) -> (Vec<Complex64>, f64) {
-    let e = model.atoms(&point.tau);
-    let r = model.residual(&e, &point.amp);
+    // Large supports on a contiguous band: streamed, without the |K| × s atom matrix.
+    let r = if model.grams_closed_form(point.len()) {
+        model.residual_at(&point.tau, &point.amp)
+    } else {
+        model.residual(&model.atoms(&point.tau), &point.amp)
+    };
     let rn = r.iter().map(|z| z.norm_sqr()).sum::<f64>().sqrt();
     (r.iter().map(|z| z / lambda).collect(), rn)
 }
