@@ -182,6 +182,22 @@ pub enum Error {
         /// The methods that take snapshots, comma-separated.
         takers: &'static str,
     },
+    /// The noise-level estimate cannot tell noise from lines: the record holds more lines than the
+    /// Hankel subspace can set aside (it needs fewer than half its window) — more stand above the
+    /// spectrum's noise floor than it can set aside, or the singular values left as noise spread far
+    /// below the edge white noise would give (`crate::noise`, module docs).
+    #[error(
+        "the noise-level estimate cannot tell the noise from the lines: the record seems to hold more \
+         lines than it can set aside (the Hankel subspace of {window} rows set aside {components}; \
+         it needs fewer lines than half its window), so its level would be the lines' leakage; give \
+         the noise level explicitly (sigma; 0 for exact data)"
+    )]
+    TooManyLinesForNoise {
+        /// Components the Hankel subspace set aside.
+        components: usize,
+        /// Rows of its Hankel window.
+        window: usize,
+    },
     /// The method needs a positive noise level and none was given or could be found.
     #[error("method '{method}' needs a positive noise level: {advice}")]
     NeedsNoiseLevel {

@@ -113,6 +113,12 @@ pub(crate) struct NoiseSpectrum {
     pub level: f64,
     /// Lines removed before the level was taken.
     pub lines_removed: usize,
+    /// True when the removal stopped at its cap ([`MAX_LINES`], or a quarter of the measured values)
+    /// with lines still standing above the threshold: the record holds more lines than the level can
+    /// set aside, and the level is theirs as much as the noise's.
+    pub saturated: bool,
+    /// True when the removal reached its cap, whether or not more lines stood above the threshold.
+    pub at_cap: bool,
     /// Degrees of freedom `|K| − 3s/2` of the level.
     pub dof: f64,
     /// Loudest part's level over the quietest's (module docs).
@@ -158,6 +164,7 @@ pub(crate) fn noise_spectrum(
     let threshold_line = (n as f64).ln() + 4.0;
     let max_lines = MAX_LINES.min(m / 4);
     let mut lines = 0;
+    let mut saturated = false;
     let mut pgram = fft.tapered(&pos, &taper, w2, &r);
     loop {
         let floor = block_floor(&pgram, floor_block(n));
@@ -167,7 +174,11 @@ pub(crate) fn noise_spectrum(
             .enumerate()
             .map(|(j, (p, f))| (j, if *f > 0.0 { p / f } else { 0.0 }))
             .fold((0, 0.0), |a, b| if b.1 > a.1 { b } else { a });
-        if lines >= max_lines || rbest <= threshold_line {
+        if rbest <= threshold_line {
+            break;
+        }
+        if lines >= max_lines {
+            saturated = true;
             break;
         }
         // Position of bin j is τ = −j/N; search the line within one bin either side.
@@ -220,6 +231,8 @@ pub(crate) fn noise_spectrum(
     Some(NoiseSpectrum {
         level,
         lines_removed: lines,
+        saturated,
+        at_cap: lines >= max_lines,
         dof,
         ratio,
         threshold,

@@ -315,3 +315,42 @@ fn residual_without_degrees_of_freedom_is_none() {
     let one = Spikes::from_parts(&[0.1], &[Complex64::new(1.0, 0.0)]).unwrap();
     assert!(residual_sigma(&data, &one).is_some());
 }
+
+/// Dense scenes (invented, spikes 2/fc apart: 256 in 1025 coefficients exact, 256 in 2049 at 20 dB)
+/// hold more lines than half the 256-row Hankel window: the estimate refuses instead of returning the
+/// lines' leakage as σ (before, σ̂ came out 30 to 180 times too high on such scenes and `sdp` kept a
+/// fifth of the spikes). The first is caught by the spectrum (more lines above its floor than it
+/// sets aside), the second by the spread of the noise singular values. A scene of 80 well-separated
+/// lines at 30 dB in 2049 coefficients, within the Hankel subspace's reach, is still estimated
+/// (the spectrum's cap of 64 lines alone does not refuse it).
+#[test]
+fn too_many_lines_for_the_estimate_are_refused_not_guessed() {
+    // Exact data are recognised by the rank rule while the spikes are fewer than the window, so the
+    // exact scene has as many spikes as the window has rows.
+    for (fc, snr) in [(512, None), (1024, Some(20.0))] {
+        let mut sc = Scenario::new(fc, 256).with_separation(2.0).with_seed(3);
+        if let Some(db) = snr {
+            sc = sc.with_snr_db(db);
+        }
+        let sample = sc.generate().unwrap();
+        let err = estimate_sigma(&sample.data).unwrap_err();
+        assert!(
+            matches!(err, Error::TooManyLinesForNoise { window: 256, .. }),
+            "{snr:?}: {err:?}"
+        );
+        assert!(err.to_string().contains("give the noise level explicitly"));
+    }
+    let sample = Scenario::new(1024, 80)
+        .with_separation(8.0)
+        .with_snr_db(30.0)
+        .with_seed(4)
+        .generate()
+        .unwrap();
+    let est = estimate_sigma(&sample.data).unwrap();
+    assert!(
+        (est.sigma / sample.sigma - 1.0).abs() < 0.15,
+        "{} against {}: {est:?}",
+        est.sigma,
+        sample.sigma
+    );
+}
