@@ -25,8 +25,13 @@
 //!
 //! The constrained problem is the penalised one at the weight `τ*` where `‖R(τ*)‖_F = δ` (its
 //! Lagrange multiplier; `‖R(τ)‖` grows with `τ`), found by a safeguarded secant search on `ln τ` in
-//! `(0, sup ‖a(f)ᴴỸ‖)` with warm starts; there `Re⟨R/τ*, Ỹ⟩ − δ‖R/τ*‖ = Σ_j ‖b_j‖`, so the duality
-//! gap closes. The exact problem is followed by continuation, `τ ← τ/10`, until the fit is exact to
+//! `[δ, sup ‖a(f)ᴴỸ‖)` with warm starts; there `Re⟨R/τ*, Ỹ⟩ − δ‖R/τ*‖ = Σ_j ‖b_j‖`, so the duality
+//! gap closes. The lower end: at any weight the residual obeys `‖a(f)ᴴR‖₂ ≤ τ` for all `f`, and
+//! `∫₀¹ ‖a(f)ᴴR‖₂² df = ‖R‖²_F` (the measured indices are distinct integers, so the exponentials
+//! are orthonormal on the torus); hence `‖R(τ)‖_F ≤ τ` and `τ* ≥ δ`. The search never goes below
+//! `δ`: on snapshots the noise spreads `‖a(f)ᴴW‖₂` evenly over the torus, close to `‖W‖_F ≈ δ`,
+//! and a weight below `δ` would let dozens of noise atoms in (M = 64, L = 1000: 72 atoms at
+//! `τ = 0.76 τ*`, 3 at `τ*`), which is where the time went. The exact problem is followed by continuation, `τ ← τ/10`, until the fit is exact to
 //! rounding; its dual certificate is the limit of `R/τ` (Duval & Peyré 2015, FoCM 15(5), Prop. 8, for
 //! the scalar case).
 
@@ -585,7 +590,8 @@ pub(crate) fn solve(
         }
         Problem::Constrained { delta } => {
             // ‖R(τ)‖ − δ grows with τ and is positive at τ_max: halve τ until it is not (a path of
-            // warm starts from the sparse end), then regula falsi on ln τ with the Illinois
+            // warm starts from the sparse end), never below the geometric midpoint to the lower
+            // bound τ* ≥ δ (module docs), then regula falsi on ln τ with the Illinois
             // modification (Dowell & Jarratt 1971, BIT 11) inside the bracket.
             let mut tau = 0.5 * tau_max;
             let mut out = solver.penalised(&mut st, tau);
@@ -595,7 +601,11 @@ pub(crate) fn solve(
             while h > tol && tau > 1e-12 * tau_max && solver.iterations < solver.max_iter {
                 hi = tau;
                 h_hi = h;
-                tau *= 0.5;
+                let next = (0.5 * tau).max((delta * tau).sqrt());
+                if next >= hi * (1.0 - 1e-14) {
+                    break;
+                }
+                tau = next;
                 out = solver.penalised(&mut st, tau);
                 h = solver.residual(&st).norm() - delta;
             }
