@@ -10,12 +10,8 @@
 //!    (Li & Chi 2016, IEEE TSP 64(5), eq. (21): `‖Q‖₂ ≤ 1`, `Q(f_j) = b_j/‖b_j‖₂` on the support;
 //!    the second holds by the amplitude step's optimality).
 //! 2. Otherwise the maximiser of `‖Q‖₂` enters the support (the Frank–Wolfe step).
-//! 3. Amplitudes: `min_B ½‖Ỹ − AB‖²_F + τ Σ_j ‖B_j‖₂` by accelerated proximal gradient (Beck &
-//!    Teboulle 2009, SIAM J. Imaging Sci. 2(1), FISTA, with the gradient restart of O'Donoghue &
-//!    Candès 2015, FoCM 15(3)); the proximal map of the group penalty is block soft thresholding,
-//!    `B_j ← B_j · max(0, 1 − sτ/‖B_j‖)` (Yuan & Lin 2006, J. R. Stat. Soc. B 68(1)). Every 20
-//!    steps, once the optimality conditions fail, Newton–CG on the current nonzero rows tries to
-//!    finish the step (see `support_refine`); it is accepted only when the conditions then hold.
+//! 3. Amplitudes: `min_B ½‖Ỹ − AB‖²_F + τ Σ_j ‖B_j‖₂`, the group lasso for fixed positions, by
+//!    accelerated proximal gradient finished by Newton–CG ([`super::amplitudes`]).
 //! 4. Sliding: each position `f_j` in turn is moved to the maximum of `Re p_j(f)`,
 //!    `p_j(f) = a(f)ᴴ R₋ⱼ B_jᴴ` (`R₋ⱼ` the residual without atom `j`), by Newton steps — the exact
 //!    minimiser of the objective over `f_j` — and the amplitudes are recomputed; repeated until the
@@ -35,6 +31,7 @@
 //! rounding; its dual certificate is the limit of `R/τ` (Duval & Peyré 2015, FoCM 15(5), Prop. 8, for
 //! the scalar case).
 
+use super::amplitudes;
 use super::certificate::VectorPolynomial;
 use super::polish::{best_position, steering};
 use super::{JointSolution, Reduced};
@@ -108,11 +105,6 @@ impl Solver<'_> {
         VectorPolynomial::new(self.red.kmin, &self.red.on_band(m))
     }
 
-    /// `Σ_j ‖B_j‖₂`.
-    fn group_norm(b: &DMatrix<Complex64>) -> f64 {
-        b.row_iter().map(|r| r.norm()).sum()
-    }
-
     /// Amplitude step (module docs, 3), warm-started from `st.b`, until the optimality conditions
     /// hold to `rel·τ` or after `max_steps` steps.
     fn amplitudes(&self, st: &mut State, tau: f64, rel: f64, max_steps: usize) {
@@ -120,58 +112,7 @@ impl Solver<'_> {
             return;
         }
         let a = self.steering(&st.pos);
-        let g = a.adjoint() * &a;
-        let c = a.adjoint() * &self.red.y;
-        let lip = nalgebra::SymmetricEigen::new(g.clone())
-            .eigenvalues
-            .iter()
-            .copied()
-            .fold(0.0, f64::max)
-            .max(f64::MIN_POSITIVE);
-        let step = 1.0 / lip;
-        let prox = |m: &mut DMatrix<Complex64>| {
-            for mut row in m.row_iter_mut() {
-                let nr = row.norm();
-                let scale = if nr > step * tau {
-                    1.0 - step * tau / nr
-                } else {
-                    0.0
-                };
-                row *= Complex64::new(scale, 0.0);
-            }
-        };
-        let mut x = st.b.clone();
-        let mut z = x.clone();
-        let mut t = 1.0_f64;
-        for it in 0..max_steps {
-            let mut next = &z - (&g * &z - &c).scale(step);
-            prox(&mut next);
-            // Gradient restart: the momentum points uphill.
-            let uphill = (&z - &next).dotc(&(&next - &x)).re > 0.0;
-            let t_next = if uphill {
-                1.0
-            } else {
-                0.5 * (1.0 + (1.0 + 4.0 * t * t).sqrt())
-            };
-            let momentum = if uphill { 0.0 } else { (t - 1.0) / t_next };
-            z = &next + (&next - &x).scale(momentum);
-            x = next;
-            t = t_next;
-            // Optimality (every 20 steps): with the correlations E = Aᴴ(Ỹ − AB), a nonzero row has
-            // E_j = τ B_j/‖B_j‖, a zero row ‖E_j‖ ≤ τ.
-            if it % 20 == 19 {
-                let goal = rel * tau.max(f64::MIN_POSITIVE);
-                if violation(&g, &c, &x, tau) <= goal {
-                    break;
-                }
-                // The support has (most likely) settled: finish on it by majorise–minimise steps.
-                if let Some(b) = support_refine(&g, &c, &x, tau, goal) {
-                    x = b;
-                    break;
-                }
-            }
-        }
-        st.b = x;
+        st.b = amplitudes::solve(&a, &self.red.y, &st.b, tau, rel, max_steps);
     }
 
     /// Slide every position to the exact minimiser over it (module docs, 4); the largest move.
@@ -281,172 +222,6 @@ impl Solver<'_> {
             self.prune(st);
         }
     }
-}
-
-/// Worst violation of the optimality conditions of `min_B ½‖Ỹ − AB‖²_F + τ Σ_j ‖B_j‖₂` (Gram
-/// `G = AᴴA`, correlations `C = AᴴỸ`): with `E = C − GB`, a nonzero row needs `E_j = τ B_j/‖B_j‖`, a
-/// zero row `‖E_j‖ ≤ τ` (Yuan & Lin 2006, J. R. Stat. Soc. B 68(1), eq. (2.4)).
-fn violation(
-    g: &DMatrix<Complex64>,
-    c: &DMatrix<Complex64>,
-    x: &DMatrix<Complex64>,
-    tau: f64,
-) -> f64 {
-    let e = c - g * x;
-    (0..x.nrows())
-        .map(|j| {
-            let nb = x.row(j).norm();
-            if nb > 0.0 {
-                (e.row(j) - x.row(j).scale(tau / nb)).norm()
-            } else {
-                (e.row(j).norm() - tau).max(0.0)
-            }
-        })
-        .fold(0.0, f64::max)
-}
-
-/// `½ Re tr(BᴴGB) − Re tr(BᴴC) + τ Σ_j ‖B_j‖₂`: the amplitude objective less the constant `½‖Ỹ‖²`.
-fn objective(
-    g: &DMatrix<Complex64>,
-    c: &DMatrix<Complex64>,
-    b: &DMatrix<Complex64>,
-    tau: f64,
-) -> f64 {
-    0.5 * b.dotc(&(g * b)).re - b.dotc(c).re + tau * Solver::group_norm(b)
-}
-
-/// Newton steps on the nonzero rows `S` of `x` (Nocedal & Wright 2006, Numerical Optimization, 2nd
-/// ed., Algorithm 7.1, Newton–CG with a backtracking line search). On `S` the objective is smooth,
-/// with gradient `F = G_SS B − C_S + τ D B` (`D = diag(1/‖B_j‖)`) and Hessian
-/// `H[Δ] = G_SS Δ + τ D (Δ_j − u_j Re(u_jᴴΔ_j))_j` (`u_j = B_j/‖B_j‖`). Conjugate gradients on
-/// `HΔ = −F` are preconditioned by `P = (G_SS + τD)⁻¹` (one Cholesky factor per step): `H` differs
-/// from `P⁻¹` by one real rank-one term per row, so the preconditioned iteration ends in at most
-/// `|S| + 1` steps in exact arithmetic however ill-conditioned a cluster of close atoms makes `G`,
-/// where proximal gradient needs thousands. Returns the amplitudes once the optimality conditions
-/// (zero rows included) hold to `goal`, `None` when they do not within the step limit (the caller
-/// goes on with proximal gradient: the answer is the same either way, only reached sooner).
-fn support_refine(
-    g: &DMatrix<Complex64>,
-    c: &DMatrix<Complex64>,
-    x: &DMatrix<Complex64>,
-    tau: f64,
-    goal: f64,
-) -> Option<DMatrix<Complex64>> {
-    const NEWTON_STEPS: usize = 20;
-    if tau.is_nan() || tau <= 0.0 {
-        return None;
-    }
-    let top = x.row_iter().map(|r| r.norm()).fold(0.0, f64::max);
-    let active: Vec<usize> = (0..x.nrows())
-        .filter(|&j| x.row(j).norm() > 1e-12 * top)
-        .collect();
-    if active.is_empty() {
-        return None;
-    }
-    let n = active.len();
-    let gs = DMatrix::from_fn(n, n, |i, k| g[(active[i], active[k])]);
-    let cs = DMatrix::from_fn(n, c.ncols(), |i, l| c[(active[i], l)]);
-    let mut b = DMatrix::from_fn(n, c.ncols(), |i, l| x[(active[i], l)]);
-    let embed = |b: &DMatrix<Complex64>| {
-        let mut full = DMatrix::zeros(x.nrows(), x.ncols());
-        for (i, &j) in active.iter().enumerate() {
-            full.set_row(j, &b.row(i));
-        }
-        full
-    };
-    // Gradient on S (`None` when a row vanished: S is then not the support).
-    let gradient = |b: &DMatrix<Complex64>| {
-        let mut grad = &gs * b - &cs;
-        for i in 0..n {
-            let w = b.row(i).norm();
-            if w.is_nan() || w <= 0.0 {
-                return None;
-            }
-            let bi = b.row(i).scale(tau / w);
-            let mut row = grad.row_mut(i);
-            row += bi;
-        }
-        Some(grad)
-    };
-    let mut f = objective(&gs, &cs, &b, tau);
-    let mut grad = gradient(&b)?;
-    for _ in 0..NEWTON_STEPS {
-        let w: Vec<f64> = b.row_iter().map(|r| r.norm()).collect();
-        let hess = |d: &DMatrix<Complex64>| {
-            let mut out = &gs * d;
-            for (i, &wi) in w.iter().enumerate() {
-                let u = b.row(i).unscale(wi);
-                let radial = u.dotc(&d.row(i)).re;
-                let term = (d.row(i) - u.scale(radial)).scale(tau / wi);
-                let mut row = out.row_mut(i);
-                row += term;
-            }
-            out
-        };
-        let mut pre = gs.clone();
-        for (i, &wi) in w.iter().enumerate() {
-            pre[(i, i)] += Complex64::new(tau / wi, 0.0);
-        }
-        let chol = pre.cholesky()?;
-        // Preconditioned conjugate gradients on HΔ = −F (real inner product Re⟨·,·⟩).
-        let mut d = DMatrix::zeros(n, c.ncols());
-        let mut r = -grad.clone();
-        let mut z = chol.solve(&r);
-        let mut p = z.clone();
-        let mut rz = r.dotc(&z).re;
-        let stop = 1e-24 * rz.abs();
-        for _ in 0..(n + 10) {
-            let hp = hess(&p);
-            let curv = p.dotc(&hp).re;
-            if curv.is_nan() || curv <= 0.0 {
-                break;
-            }
-            let alpha = rz / curv;
-            d += p.scale(alpha);
-            r -= hp.scale(alpha);
-            z = chol.solve(&r);
-            let rz_next = r.dotc(&z).re;
-            if rz_next <= stop {
-                break;
-            }
-            p = &z + p.scale(rz_next / rz);
-            rz = rz_next;
-        }
-        // Backtracking (Armijo) line search on the objective.
-        let slope = grad.dotc(&d).re;
-        if slope.is_nan() || slope >= 0.0 {
-            break;
-        }
-        // Near the solution the objective's decrease drowns in rounding; the step is then judged by
-        // the gradient norm instead (Nocedal & Wright 2006, §11.2, the merit ‖F‖²).
-        let gnorm = grad.norm();
-        let mut step = 1.0;
-        let mut accepted = false;
-        for _ in 0..12 {
-            let trial = &b + d.scale(step);
-            let ft = objective(&gs, &cs, &trial, tau);
-            let gt = gradient(&trial);
-            let smaller = gt
-                .as_ref()
-                .is_some_and(|gt| gt.norm() <= (1.0 - 1e-4 * step) * gnorm);
-            if gt.is_some() && (ft <= f + 1e-4 * step * slope || smaller) {
-                b = trial;
-                f = ft;
-                grad = gt?;
-                accepted = true;
-                break;
-            }
-            step *= 0.5;
-        }
-        let full = embed(&b);
-        if violation(g, c, &full, tau) <= goal {
-            return Some(full);
-        }
-        if !accepted {
-            break;
-        }
-    }
-    None
 }
 
 /// The exact problem from the support found by continuation: positions polished to an exact fit,
@@ -641,7 +416,7 @@ pub(crate) fn solve(
         }
     };
     let res = solver.residual(&st);
-    let norm = Solver::group_norm(&st.b);
+    let norm = amplitudes::group_norm(&st.b);
     // Dual point scaled into the dual feasible set.
     let scale = tau * outcome.eta_max.max(1.0);
     let v = res.unscale(scale);
