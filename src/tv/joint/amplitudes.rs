@@ -4,7 +4,8 @@
 //! restart of O'Donoghue & Candès 2015, FoCM 15(3)); the proximal map of the group penalty is block
 //! soft thresholding, `B_j ← B_j · max(0, 1 − sτ/‖B_j‖)` (Yuan & Lin 2006, J. R. Stat. Soc. B
 //! 68(1)). Every 20 steps, once the optimality conditions fail, Newton–CG on the current nonzero rows
-//! tries to finish the step ([`support_refine`]); it is accepted only when the conditions then hold.
+//! tries to finish the step ([`support_refine`]; after a failure on the same rows, twice as many
+//! steps later each time); it is accepted only when the conditions then hold.
 
 use nalgebra::DMatrix;
 use num_complex::Complex64;
@@ -47,6 +48,9 @@ pub(super) fn solve(
     let mut x = b0.clone();
     let mut z = x.clone();
     let mut t = 1.0_f64;
+    // Newton–CG tries: the support of the last failure, the step of the next try, its wait.
+    let mut failed_on: Vec<usize> = Vec::new();
+    let (mut next_try, mut wait) = (0usize, 20usize);
     for it in 0..max_steps {
         let mut next = &z - (&g * &z - &c).scale(step);
         prox(&mut next);
@@ -68,14 +72,32 @@ pub(super) fn solve(
             if violation(&g, &c, &x, tau) <= goal {
                 break;
             }
-            // The support has (most likely) settled: finish on it by majorise–minimise steps.
-            if let Some(b) = support_refine(&g, &c, &x, tau, goal) {
-                x = b;
-                break;
+            // The support has (most likely) settled: finish on it by Newton–CG. After a failure on
+            // one support, the next try on the same support waits twice as long: near a cluster of
+            // close atoms Newton can miss the goal for thousands of steps, and each try costs up
+            // to 20 Newton steps (M = 32, L = 100, 0 dB, seed 1 of `joint_timing`: 43 -> 5.6 s,
+            // same iterations, positions equal to 1e-9).
+            let support = nonzero_rows(&x);
+            if it >= next_try || support != failed_on {
+                if let Some(b) = support_refine(&g, &c, &x, tau, goal) {
+                    x = b;
+                    break;
+                }
+                wait = if support == failed_on { 2 * wait } else { 20 };
+                next_try = it + wait;
+                failed_on = support;
             }
         }
     }
     x
+}
+
+/// The rows of `x` that [`support_refine`] treats as nonzero (above `1e-12` of the largest norm).
+fn nonzero_rows(x: &DMatrix<Complex64>) -> Vec<usize> {
+    let top = x.row_iter().map(|r| r.norm()).fold(0.0, f64::max);
+    (0..x.nrows())
+        .filter(|&j| x.row(j).norm() > 1e-12 * top)
+        .collect()
 }
 
 /// Worst violation of the optimality conditions of `min_B ½‖Ỹ − AB‖²_F + τ Σ_j ‖B_j‖₂` (Gram
@@ -131,10 +153,7 @@ fn support_refine(
     if tau.is_nan() || tau <= 0.0 {
         return None;
     }
-    let top = x.row_iter().map(|r| r.norm()).fold(0.0, f64::max);
-    let active: Vec<usize> = (0..x.nrows())
-        .filter(|&j| x.row(j).norm() > 1e-12 * top)
-        .collect();
+    let active = nonzero_rows(x);
     if active.is_empty() {
         return None;
     }
