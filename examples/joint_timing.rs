@@ -6,10 +6,11 @@
 //! for one size, or `cargo run --release --example joint_timing table [SEED [SNR_DB]]` for the table
 //! M = 16/32/64 × L = 100/1000, one run each, with the growth factors in M and L. The first call of
 //! a layout includes the Monte Carlo detection level of the significance test (cached per process
-//! afterwards), as a user's single call would.
+//! afterwards), as a user's single call would. With `JOINT_SLIDING=1` in the environment the
+//! sliding backend is forced (the automatic choice takes the interior point at M = 16).
 
 use finespike::eval::array_scene::ArrayScene;
-use finespike::{Estimator, Tv};
+use finespike::{Backend, Estimator, Tv, TvSettings};
 use std::time::Instant;
 
 /// One timed estimate; prints a line and returns the seconds.
@@ -20,7 +21,11 @@ fn run(m: usize, l: usize, seed: u64, snr_db: f64) -> finespike::Result<f64> {
         .with_seed(seed)
         .draw()?;
     let start = Instant::now();
-    let est = Tv::default().estimate_snapshots(&draw.data)?;
+    let mut tv = Tv::default();
+    if std::env::var("JOINT_SLIDING").is_ok_and(|v| v == "1") {
+        tv = tv.with_settings(TvSettings::default().with_backend(Backend::SlidingFrankWolfe));
+    }
+    let est = tv.estimate_snapshots(&draw.data)?;
     let secs = start.elapsed().as_secs_f64();
     println!(
         "M = {m}, L = {l}: {secs:.3} s, solver {}, status {:?}, positions {:?}",
