@@ -191,3 +191,7 @@ impl VectorPolynomial {
         }
     }
 }
+
+#[cfg(test)]
+#[path = "certificate_tests.rs"]
+mod tests;
