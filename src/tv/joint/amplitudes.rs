@@ -10,6 +10,9 @@
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 
+/// Longest wait (proximal steps) between two Newton–CG tries on the same support.
+const MAX_WAIT: usize = 320;
+
 /// `Σ_j ‖B_j‖₂`.
 pub(super) fn group_norm(b: &DMatrix<Complex64>) -> f64 {
     b.row_iter().map(|r| r.norm()).sum()
@@ -83,7 +86,11 @@ pub(super) fn solve(
                     x = b;
                     break;
                 }
-                wait = if support == failed_on { 2 * wait } else { 20 };
+                wait = if support == failed_on {
+                    (2 * wait).min(MAX_WAIT)
+                } else {
+                    20
+                };
                 next_try = it + wait;
                 failed_on = support;
             }

@@ -182,6 +182,10 @@ impl Solver<'_> {
         // certificate alone does not check the optimality conditions on the support).
         if !st.pos.is_empty() {
             self.amplitudes(st, tau, FINE, FINE_STEPS);
+            // …and its positions slid to this weight: a warm start that is certified at once
+            // otherwise keeps positions from another weight, and `‖R(τ)‖` then depends on the path
+            // enough (1e-5 relative) to stall the weight search above `δ`.
+            self.settle(st, tau);
             self.prune(st);
         }
         loop {
@@ -212,14 +216,20 @@ impl Solver<'_> {
                 }
             }
             self.amplitudes(st, tau, FINE, FINE_STEPS);
-            for _ in 0..20 {
-                let moved = self.slide(st);
-                self.amplitudes(st, tau, FINE, FINE_STEPS);
-                if moved * (self.red.band_len as f64) < 1e-13 {
-                    break;
-                }
-            }
+            self.settle(st, tau);
             self.prune(st);
+        }
+    }
+
+    /// Fine sliding: positions and fine amplitudes alternately, until the positions stop moving
+    /// (at most 20 rounds).
+    fn settle(&self, st: &mut State, tau: f64) {
+        for _ in 0..20 {
+            let moved = self.slide(st);
+            self.amplitudes(st, tau, FINE, FINE_STEPS);
+            if moved * (self.red.band_len as f64) < 1e-13 {
+                break;
+            }
         }
     }
 }
@@ -386,6 +396,11 @@ pub(crate) fn solve(
             }
             let (mut lo, mut h_lo) = (tau, h);
             let mut side = 0i8;
+            // The best certified solve inside the ball (largest `h ≤ 0`): near `τ*` the residual
+            // of a solve carries its solver error (1e-8 relative), which can leave every solve
+            // of a collapsed bracket just outside the ball.
+            let mut inside: Option<(State, f64, Penalised, f64)> =
+                (h <= 0.0 && out.certified).then(|| (st.clone(), tau, out, h));
             while h.abs() > tol && h_hi > 0.0 && solver.iterations < solver.max_iter {
                 let (x0, x1) = (lo.ln(), hi.ln());
                 let x = x1 - h_hi * (x1 - x0) / (h_hi - h_lo);
@@ -410,6 +425,16 @@ pub(crate) fn solve(
                         h_hi *= 0.5;
                     }
                     side = -1;
+                    if out.certified && inside.as_ref().is_none_or(|b| h > b.3) {
+                        inside = Some((st.clone(), tau, out, h));
+                    }
+                }
+            }
+            if h > 1e-8 * delta {
+                if let Some((best, t, o, _)) = inside {
+                    st = best;
+                    tau = t;
+                    out = o;
                 }
             }
             (tau, out)
