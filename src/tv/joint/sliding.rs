@@ -396,11 +396,14 @@ pub(crate) fn solve(
             }
             let (mut lo, mut h_lo) = (tau, h);
             let mut side = 0i8;
-            // The best certified solve inside the ball (largest `h ≤ 0`): near `τ*` the residual
-            // of a solve carries its solver error (1e-8 relative), which can leave every solve
-            // of a collapsed bracket just outside the ball.
+            // The certified solve inside the ball closest to its boundary (largest `h`, with the
+            // fit tolerance of the status below) is the answer: near `τ*` the residual of a solve
+            // carries its solver error (up to 1e-5 relative: positions certified to `ε` differ
+            // with the path of warm starts), which can leave the last solve of a collapsed bracket
+            // just outside the ball, or deeper inside it than an earlier one.
+            let fits = 1e-8 * delta;
             let mut inside: Option<(State, f64, Penalised, f64)> =
-                (h <= 0.0 && out.certified).then(|| (st.clone(), tau, out, h));
+                (h <= fits && out.certified).then(|| (st.clone(), tau, out, h));
             while h.abs() > tol && h_hi > 0.0 && solver.iterations < solver.max_iter {
                 let (x0, x1) = (lo.ln(), hi.ln());
                 let x = x1 - h_hi * (x1 - x0) / (h_hi - h_lo);
@@ -425,13 +428,13 @@ pub(crate) fn solve(
                         h_hi *= 0.5;
                     }
                     side = -1;
-                    if out.certified && inside.as_ref().is_none_or(|b| h > b.3) {
-                        inside = Some((st.clone(), tau, out, h));
-                    }
+                }
+                if h <= fits && out.certified && inside.as_ref().is_none_or(|b| h > b.3) {
+                    inside = Some((st.clone(), tau, out, h));
                 }
             }
-            if h > 1e-8 * delta {
-                if let Some((best, t, o, _)) = inside {
+            if let Some((best, t, o, h_best)) = inside {
+                if h > fits || h_best > h {
                     st = best;
                     tau = t;
                     out = o;
