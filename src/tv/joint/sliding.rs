@@ -27,7 +27,9 @@
 //! are orthonormal on the torus); hence `‖R(τ)‖_F ≤ τ` and `τ* ≥ δ`. The search never goes below
 //! `δ`: on snapshots the noise spreads `‖a(f)ᴴW‖₂` evenly over the torus, close to `‖W‖_F ≈ δ`,
 //! and a weight below `δ` would let dozens of noise atoms in (M = 64, L = 1000: 72 atoms at
-//! `τ = 0.76 τ*`, 3 at `τ*`), which is where the time went. The exact problem is followed by continuation, `τ ← τ/10`, until the fit is exact to
+//! `τ = 0.76 τ*`, 3 at `τ*`), which is where the time went. Each certified solve carries a path
+//! error in `‖R(τ)‖` (positions certified to `ε` depend on the warm starts), so the answer is the
+//! certified solve inside the ball closest to its boundary, not merely the last one. The exact problem is followed by continuation, `τ ← τ/10`, until the fit is exact to
 //! rounding; its dual certificate is the limit of `R/τ` (Duval & Peyré 2015, FoCM 15(5), Prop. 8, for
 //! the scalar case).
 
