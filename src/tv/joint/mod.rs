@@ -53,6 +53,7 @@
 //! group Sliding Frank–Wolfe, certified by `sup_f ‖Q(f)‖₂ ≤ 1 + ε` with `Q` from the residual.
 //! [`Backend::Auto`] takes the interior point up to a block of [`AUTO_MAX_BLOCK`].
 
+mod amplitudes;
 mod certificate;
 mod polish;
 pub mod prune;

@@ -11,8 +11,8 @@
 //! generalised likelihood-ratio statistic, e.g. Kay 1998, *Fundamentals of Statistical Signal
 //! Processing II*, §6.5). The position is chosen by the fit, so the statistic is the supremum over `f`,
 //! approximately `sup_f ‖a(f)ᴴW‖₂²/|K|`, whose 99 % quantile is taken from the seeded Monte Carlo of
-//! [`super::tau`] (500 draws): a false alarm rate of about 1 % per estimate (common practice for a
-//! detection level).
+//! [`super::tau`] (500 draws, computed once per array layout and snapshot count): a false alarm rate
+//! of about 1 % per estimate (common practice for a detection level).
 //!
 //! The rise is computed on the reduced data `Ỹ` (the dimension reduction of [`super`]): `‖P⊥Y‖_F = ‖P⊥Ỹ‖_F`.
 

@@ -21,6 +21,7 @@ use num_complex::Complex64;
 use rand::rngs::StdRng;
 use rand::{Rng, SeedableRng};
 use rand_distr::{Gamma, StandardNormal};
+use std::collections::HashMap;
 
 /// Monte Carlo draws of the calibration.
 pub const DRAWS: usize = 200;
@@ -49,13 +50,44 @@ pub fn quantile(sorted: &[f64], q: f64) -> f64 {
     sorted[idx]
 }
 
-/// `draws` seeded draws of `sup_f ‖a(f)ᴴW‖₂` for unit noise (module docs), sorted ascending.
+/// Layouts whose draws are kept by [`noise_sup_draws`] (the cache is emptied when full).
+const CACHE_LAYOUTS: usize = 64;
+
+/// Key of the cache: measured indices, span, snapshots, draws.
+type DrawKey = (Vec<i64>, usize, usize, usize);
+
+/// The draws of every layout seen so far in this process (they are a deterministic function of the
+/// key: fixed seed).
+static DRAW_CACHE: std::sync::OnceLock<std::sync::Mutex<HashMap<DrawKey, Vec<f64>>>> =
+    std::sync::OnceLock::new();
+
+/// `draws` seeded draws of `sup_f ‖a(f)ᴴW‖₂` for unit noise (module docs), sorted ascending;
+/// computed once per layout `(indices, band_len, snapshots, draws)` and process (a Monte Carlo over
+/// many records of one array pays for it once).
 pub fn noise_sup_draws(
     indices: &[i64],
     band_len: usize,
     snapshots: usize,
     draws: usize,
 ) -> Vec<f64> {
+    let key = (indices.to_vec(), band_len, snapshots, draws);
+    let cache = DRAW_CACHE.get_or_init(|| std::sync::Mutex::new(HashMap::new()));
+    // A poisoned lock only costs the cache: the draws are then computed afresh.
+    if let Some(hit) = cache.lock().ok().and_then(|c| c.get(&key).cloned()) {
+        return hit;
+    }
+    let sups = draw_sups(indices, band_len, snapshots, draws);
+    if let Ok(mut c) = cache.lock() {
+        if c.len() >= CACHE_LAYOUTS {
+            c.clear();
+        }
+        c.insert(key, sups.clone());
+    }
+    sups
+}
+
+/// [`noise_sup_draws`] without the cache.
+fn draw_sups(indices: &[i64], band_len: usize, snapshots: usize, draws: usize) -> Vec<f64> {
     let p = indices.len();
     let kmin = indices.first().copied().unwrap_or(0);
     let mut rng = StdRng::seed_from_u64(SEED);
@@ -91,7 +123,7 @@ pub fn noise_sup_draws(
                 })
                 .collect();
             let q = VectorPolynomial::new(kmin, &cols);
-            q.peaks(8, f64::INFINITY).first().map_or(0.0, |p| p.modulus)
+            q.sup()
         })
         .collect();
     sups.sort_by(f64::total_cmp);
