@@ -5,6 +5,7 @@ use crate::cost::{exponent, Point};
 use crate::numbers::{crb_rows, half_separation, resolution_rows, threshold_snr, BREAK_RATIO};
 use crate::report::{fmt, table, Results};
 use crate::Mode;
+use finespike::eval::campaign::Campaign;
 use std::fmt::Write as _;
 
 /// Noiseless recovery maps.
@@ -46,22 +47,27 @@ pub fn accuracy(md: &mut String, r: &Results) {
         r.crb.plan.draws
     )
     .ok();
-    let crb = crb_rows(&r.crb);
-    let snrs: Vec<f64> = r.crb.plan.grid.snr_db.iter().flatten().copied().collect();
+    w.push_str(&snr_table(&r.crb));
+}
+
+/// The table of a study against SNR: per method its threshold SNR, then RMSE/√CRB and the share of
+/// lines found at each SNR of the campaign's grid.
+fn snr_table(c: &Campaign) -> String {
+    let rows = crb_rows(c);
+    let snrs: Vec<f64> = c.plan.grid.snr_db.iter().flatten().copied().collect();
     let mut head: Vec<String> = vec!["method".into(), "threshold SNR (dB)".into()];
     head.extend(snrs.iter().map(|s| format!("{s} dB")));
-    let rows: Vec<Vec<String>> = r
-        .crb
+    let body: Vec<Vec<String>> = c
         .plan
         .methods
         .iter()
         .map(|m| {
             let mut row = vec![
                 m.name.clone(),
-                threshold_snr(&crb, &m.name).map_or("above the range".into(), |t| format!("{t}")),
+                threshold_snr(&rows, &m.name).map_or("above the range".into(), |t| format!("{t}")),
             ];
             for s in &snrs {
-                let c = crb.iter().find(|c| c.method == m.name && c.snr == *s);
+                let c = rows.iter().find(|c| c.method == m.name && c.snr == *s);
                 row.push(c.map_or("–".into(), |c| {
                     format!("{} ({:.0} % found)", fmt(c.ratio), 100.0 * c.found)
                 }));
@@ -70,7 +76,7 @@ pub fn accuracy(md: &mut String, r: &Results) {
         })
         .collect();
     let head_ref: Vec<&str> = head.iter().map(String::as_str).collect();
-    w.push_str(&table(&head_ref, &rows));
+    table(&head_ref, &body)
 }
 
 /// Resolution of two lines: figure and the 50 % separations.
@@ -211,39 +217,7 @@ pub fn arrays(md: &mut String, r: &Results) {
         r.arrays.plan.draws
     )
     .ok();
-    let rows = crb_rows(&r.arrays);
-    let snrs: Vec<f64> = r
-        .arrays
-        .plan
-        .grid
-        .snr_db
-        .iter()
-        .flatten()
-        .copied()
-        .collect();
-    let mut head: Vec<String> = vec!["method".into(), "threshold SNR (dB)".into()];
-    head.extend(snrs.iter().map(|s| format!("{s} dB")));
-    let body: Vec<Vec<String>> = r
-        .arrays
-        .plan
-        .methods
-        .iter()
-        .map(|m| {
-            let mut row = vec![
-                m.name.clone(),
-                threshold_snr(&rows, &m.name).map_or("above the range".into(), |t| format!("{t}")),
-            ];
-            for s in &snrs {
-                let c = rows.iter().find(|c| c.method == m.name && c.snr == *s);
-                row.push(c.map_or("–".into(), |c| {
-                    format!("{} ({:.0} % found)", fmt(c.ratio), 100.0 * c.found)
-                }));
-            }
-            row
-        })
-        .collect();
-    let head_ref: Vec<&str> = head.iter().map(String::as_str).collect();
-    w.push_str(&table(&head_ref, &body));
+    w.push_str(&snr_table(&r.arrays));
 }
 
 /// What this run cost, study by study, and the projected cost of the full mode.
