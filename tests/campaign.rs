@@ -345,13 +345,13 @@ print(len(rows))
     std::fs::remove_dir_all(&dir).ok();
 }
 
-/// The polish on exact data runs until the exact fit: four real-positive spikes `0.3/N` apart in
-/// `N = 33` (a cell of the evaluation's quick phase-transition map, its invented draws) came back
-/// `solved` with positions up to `2·10⁻²/N` off when the polish stopped at its ordinary iteration
-/// limit (`examples/exact_cluster.rs`). The check value is the scene's own truth; ESPRIT reaches it
-/// to `10⁻¹¹/N` on the same draws, so the spikes are identifiable to that level.
-#[test]
-fn sdp_polishes_a_close_positive_cluster_to_the_exact_fit() {
+/// Draw `draw` of the real-positive cell (`spikes`, `separation` in 1/N) of the evaluation's quick
+/// phase-transition map (seed 1501, `N = 33`; invented scenes) and `sdp`'s estimate of it.
+fn sdp_on_positive_cluster(
+    spikes: usize,
+    separation: f64,
+    draw: usize,
+) -> (finespike::eval::campaign::Scene, finespike::Estimate) {
     use finespike::eval::campaign::{draw_scene, trial_seed, AmplitudePattern};
     let plan = Plan::from_json(
         r#"{"seed": 1501, "draws": 4,
@@ -367,18 +367,29 @@ fn sdp_polishes_a_close_positive_cluster_to_the_exact_fit() {
         .iter()
         .find(|c| {
             c.amplitudes == AmplitudePattern::RealPositive
-                && c.spikes == 4
-                && c.separation_res == 0.3
+                && c.spikes == spikes
+                && c.separation_res == separation
         })
         .unwrap();
+    let scene = draw_scene(c, trial_seed(plan.seed, c.index, draw)).unwrap();
+    let est = finespike::registry::estimator_by_name("sdp")
+        .unwrap()
+        .estimate(&scene.data)
+        .unwrap();
+    (scene, est)
+}
+
+/// The polish on exact data runs until the exact fit: four real-positive spikes `0.3/N` apart in
+/// `N = 33` (a cell of the evaluation's quick phase-transition map, its invented draws) came back
+/// `solved` with positions up to `2·10⁻²/N` off when the polish stopped at its ordinary iteration
+/// limit (`examples/exact_cluster.rs`). The check value is the scene's own truth; ESPRIT reaches it
+/// to `10⁻¹¹/N` on the same draws, so the spikes are identifiable to that level.
+#[test]
+fn sdp_polishes_a_close_positive_cluster_to_the_exact_fit() {
     // Draws 0, 2 and 3 (draw 1 the convex solver merges to three spikes and reports reduced
     // accuracy: a separate matter, see the evaluation report).
     for draw in [0usize, 2, 3] {
-        let scene = draw_scene(c, trial_seed(plan.seed, c.index, draw)).unwrap();
-        let est = finespike::registry::estimator_by_name("sdp")
-            .unwrap()
-            .estimate(&scene.data)
-            .unwrap();
+        let (scene, est) = sdp_on_positive_cluster(4, 0.3, draw);
         assert_eq!(est.spikes.len(), 4, "draw {draw}");
         let mut got = est.spikes.positions();
         got.sort_by(f64::total_cmp);
@@ -398,34 +409,11 @@ fn sdp_polishes_a_close_positive_cluster_to_the_exact_fit() {
 /// under the former 1e-6‖y‖ exact-fit rule. The check value is the scene's own truth.
 #[test]
 fn sdp_does_not_call_a_short_support_solved() {
-    use finespike::eval::campaign::{draw_scene, trial_seed, AmplitudePattern};
     use finespike::Status;
-    let plan = Plan::from_json(
-        r#"{"seed": 1501, "draws": 4,
-            "grid": {"bands": [{"fc": 16}], "separations": [0.3, 0.6, 0.9, 1.2, 1.5, 1.8, 2.1, 2.5],
-                     "spikes": [2, 4, 6, 8],
-                     "amplitudes": ["random_phase", "real_positive", "alternating_sign"]},
-            "methods": [{"name": "sdp"}]}"#,
-        "plan.json",
-    )
-    .unwrap();
-    let (conditions, _) = plan.conditions();
     let mut short = 0;
     for (spikes, sep) in [(6usize, 0.3), (8, 0.6)] {
-        let c = conditions
-            .iter()
-            .find(|c| {
-                c.amplitudes == AmplitudePattern::RealPositive
-                    && c.spikes == spikes
-                    && c.separation_res == sep
-            })
-            .unwrap();
         for draw in 0..2 {
-            let scene = draw_scene(c, trial_seed(plan.seed, c.index, draw)).unwrap();
-            let est = finespike::registry::estimator_by_name("sdp")
-                .unwrap()
-                .estimate(&scene.data)
-                .unwrap();
+            let (_, est) = sdp_on_positive_cluster(spikes, sep, draw);
             if est.spikes.len() != spikes {
                 short += 1;
                 assert_ne!(
