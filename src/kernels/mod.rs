@@ -58,3 +58,26 @@ pub(crate) mod rank;
 pub(crate) mod refine;
 pub(crate) mod slide;
 pub(crate) mod spectrum;
+
+/// An invented exact scene for the large-support tests of the kernels: `s` spikes spread evenly over
+/// the torus with a small irregular jitter (positions `(j + 0.1 sin j)/s + 0.01`, moduli in
+/// `[0.5, 1.5]`, phases `2.1 j`), measured on the full band `−fc..=fc`.
+#[cfg(test)]
+pub(crate) fn spread_scene(
+    s: usize,
+    fc: i64,
+) -> (crate::model::Measurements, crate::model::Spikes) {
+    use crate::model::{forward, Domain, Measurements, Spikes};
+    use num_complex::Complex64;
+    let pos: Vec<f64> = (0..s)
+        .map(|j| (j as f64 + 0.1 * (j as f64).sin()) / s as f64 + 0.01)
+        .collect();
+    let amp: Vec<Complex64> = (0..s)
+        .map(|j| Complex64::from_polar(1.0 + 0.5 * (1.3 * j as f64).sin(), 2.1 * j as f64))
+        .collect();
+    let truth = Spikes::from_parts(&pos, &amp).expect("positions and amplitudes of one length");
+    let idx: Vec<i64> = (-fc..=fc).collect();
+    let data = Measurements::in_band(-fc, fc, &idx, &forward(&truth, &idx), Domain::Fourier)
+        .expect("a valid full band");
+    (data, truth)
+}

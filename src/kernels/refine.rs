@@ -445,21 +445,7 @@ mod tests {
     /// An invented exact scene of 110 spikes at fc = 250 (about 2.3/fc apart): large enough for the
     /// large-support paths (3s ≥ ITERATIVE_FROM).
     fn large_scene() -> (Measurements, Spikes) {
-        let s = 110;
-        let fc = 250i64;
-        let pos: Vec<f64> = (0..s)
-            .map(|j| (j as f64 + 0.1 * (j as f64).sin()) / s as f64 + 0.01)
-            .collect();
-        let amp: Vec<Complex64> = (0..s)
-            .map(|j| Complex64::from_polar(1.0 + 0.5 * (1.3 * j as f64).sin(), 2.1 * j as f64))
-            .collect();
-        let truth = Spikes::from_parts(&pos, &amp).unwrap();
-        let idx: Vec<i64> = (-fc..=fc).collect();
-        let y = forward(&truth, &idx);
-        (
-            Measurements::in_band(-fc, fc, &idx, &y, Domain::Fourier).unwrap(),
-            truth,
-        )
+        crate::kernels::spread_scene(110, 250)
     }
 
     /// The large-support path (closed-form JᵀJ, conjugate gradients, streamed residuals) polishes a

@@ -81,16 +81,9 @@ fn derivatives_match_finite_differences() {
 #[test]
 fn iterative_slide_recovers_exact_spikes() {
     let s = 110;
-    let fc = 250i64;
-    let pos: Vec<f64> = (0..s)
-        .map(|j| (j as f64 + 0.1 * (j as f64).sin()) / s as f64 + 0.01)
-        .collect();
-    let amp: Vec<Complex64> = (0..s)
-        .map(|j| Complex64::from_polar(1.0 + 0.5 * (1.3 * j as f64).sin(), 2.1 * j as f64))
-        .collect();
-    let truth = Spikes::from_parts(&pos, &amp).unwrap();
-    let idx: Vec<i64> = (-fc..=fc).collect();
-    let d = Measurements::in_band(-fc, fc, &idx, &forward(&truth, &idx), Domain::Fourier).unwrap();
+    let (d, truth) = crate::kernels::spread_scene(s, 250);
+    let pos = truth.positions();
+    let amp = truth.amplitudes();
     let m = Model::new(&d, 8).unwrap();
     assert!(3 * s >= ITERATIVE_FROM);
     let mut p = Point {
