@@ -258,42 +258,29 @@ fn estimate_with(
         let (est, exact) = gapped_estimate(data, advice)?;
         (est, exact, false)
     };
-    let too_many = |est: &SigmaEstimate| {
-        let (components, window) = match est.method {
-            SigmaMethod::HankelSubspace { order, window, .. } => (order, window),
-            SigmaMethod::GappedHankel { order, rows, .. } => (order, rows),
-            _ => (0, 0),
-        };
-        Error::TooManyLinesForNoise { components, window }
+    // The subspace's order and window, for the refusal below.
+    let (components, window) = match est.method {
+        SigmaMethod::HankelSubspace { order, window, .. } => (order, window),
+        SigmaMethod::GappedHankel { order, rows, .. } => (order, rows),
+        _ => (0, 0),
     };
+    let too_many = || Err(Error::TooManyLinesForNoise { components, window });
     if exact || !gapped_ok {
-        if spread {
-            return Err(too_many(&est));
-        }
-        return Ok((est, exact));
+        return if spread { too_many() } else { Ok((est, exact)) };
     }
     let Some(spec) = noise_spectrum(data.kmin(), data.band_len(), data.indices(), data.values())
     else {
-        if spread {
-            return Err(too_many(&est));
-        }
-        return Ok((est, false));
+        return if spread { too_many() } else { Ok((est, false)) };
     };
     // The noise singular values spread far below white noise's edge: lines in the noise subspace,
     // unless the noise is coloured (whose spectrum spreads them too) and the spectrum set aside
-    // fewer lines than its cap.
-    if spread && (!spec.coloured() || spec.at_cap) {
-        return Err(too_many(&est));
-    }
-    if spec.saturated {
-        // More lines than the spectrum can set aside: unless the Hankel subspace accounted for at
-        // least as many, both levels are leakage of the lines (a dense exact scene of 1024 spikes in
-        // 8193 coefficients came out at σ̂ = 32 on unit amplitudes, and sdp then kept 85 spikes).
-        let err = too_many(&est);
-        if matches!(err, Error::TooManyLinesForNoise { components, .. } if components < spec.lines_removed)
-        {
-            return Err(err);
-        }
+    // fewer lines than its cap. Or more lines than the spectrum can set aside, with the Hankel
+    // subspace short of as many: both levels are leakage of the lines (a dense exact scene of 1024
+    // spikes in 8193 coefficients came out at σ̂ = 32 on unit amplitudes, and sdp then kept 85).
+    if (spread && (!spec.coloured() || spec.at_cap))
+        || (spec.saturated && components < spec.lines_removed)
+    {
+        return too_many();
     }
     let colour = NoiseColour {
         ratio: spec.ratio,
